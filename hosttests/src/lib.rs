@@ -1,0 +1,1 @@
+//! Host-side simulation models for photon-ledger.

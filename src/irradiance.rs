@@ -1,0 +1,352 @@
+//! Calibration: photocurrent → irradiance, and the [`Meter`] that joins every configuration
+//! stage into the constants the dose engine needs.
+//!
+//! A detector is calibrated either by its responsivity at the band and its active area
+//! (E = I / (R · A)) or by a certificate factor in (W/m²)/A (E = k · I). Either way the result
+//! is one number, fixed at configuration time.
+//!
+//! The [`Meter`] holds the validated front end, calibration, band and tick rate, and turns
+//! them into one factor per amplifier range: joules per square metre per *integer unit* of
+//! the dose engine (one net ADC code held for one tick, counted twice by the trapezoid rule).
+//! Every dose quantity is that factor times the same integer sum (one integral, many units).
+
+use crate::band::{Band, BandError, BandFactors};
+use crate::frontend::{FrontEnd, MAX_RANGES};
+use crate::quantity::{
+    Area, Current, Irradiance, IrradiancePerCurrent, PhotonAmount, PhotonExposure,
+    PhotonIrradiance, RadiantExposure, Responsivity,
+};
+use crate::reading::{RangeIndex, TickRate};
+
+/// How photocurrent becomes irradiance.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Calibration {
+    /// From the detector's responsivity at the band and its active area: E = I / (R · A).
+    Responsivity {
+        /// Responsivity at the band, A/W. Valid: finite, > 0.
+        responsivity: Responsivity,
+        /// Active area of the photodiode (behind any aperture). Valid: finite, > 0.
+        active_area: Area,
+    },
+    /// A certificate factor, (W/m²)/A: E = k · I. Valid: finite, > 0.
+    Certificate(IrradiancePerCurrent),
+}
+
+/// Why a calibration was rejected.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum CalibrationError {
+    /// Responsivity not finite or ≤ 0.
+    Responsivity,
+    /// Active area not finite or ≤ 0.
+    ActiveArea,
+    /// Certificate factor not finite or ≤ 0.
+    Factor,
+}
+
+impl core::fmt::Display for CalibrationError {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        f.write_str(match self {
+            Self::Responsivity => "responsivity must be finite and > 0",
+            Self::ActiveArea => "detector active area must be finite and > 0",
+            Self::Factor => "calibration factor must be finite and > 0",
+        })
+    }
+}
+
+impl core::error::Error for CalibrationError {}
+
+fn positive(v: f64) -> bool {
+    v.is_finite() && v > 0.0
+}
+
+impl Calibration {
+    /// The calibration as one factor, (W/m²)/A.
+    ///
+    /// # Errors
+    /// [`CalibrationError`] for a value that is not finite and positive.
+    pub fn factor(&self) -> Result<IrradiancePerCurrent, CalibrationError> {
+        match *self {
+            Self::Responsivity {
+                responsivity,
+                active_area,
+            } => {
+                if !positive(responsivity.a_per_w()) {
+                    return Err(CalibrationError::Responsivity);
+                }
+                if !positive(active_area.m2()) {
+                    return Err(CalibrationError::ActiveArea);
+                }
+                Ok(IrradiancePerCurrent::from_w_per_m2_per_a(
+                    1.0 / (responsivity.a_per_w() * active_area.m2()),
+                ))
+            }
+            Self::Certificate(k) => {
+                if positive(k.w_per_m2_per_a()) {
+                    Ok(k)
+                } else {
+                    Err(CalibrationError::Factor)
+                }
+            }
+        }
+    }
+}
+
+/// Why a meter could not be built.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum MeterError {
+    /// The calibration is invalid.
+    Calibration(CalibrationError),
+    /// The band is invalid.
+    Band(BandError),
+    /// The illuminated sample area is not finite or ≤ 0.
+    SampleArea,
+}
+
+impl core::fmt::Display for MeterError {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        match self {
+            Self::Calibration(e) => write!(f, "calibration: {e}"),
+            Self::Band(e) => write!(f, "band: {e}"),
+            Self::SampleArea => f.write_str("illuminated area must be finite and > 0"),
+        }
+    }
+}
+
+impl core::error::Error for MeterError {}
+
+/// A calibrated meter: front end + calibration + band + tick rate (+ an optional illuminated
+/// sample area), reduced to the constants the dose engine multiplies by at read-out.
+#[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Meter {
+    front_end: FrontEnd,
+    calibration: IrradiancePerCurrent,
+    band: BandFactors,
+    tick_rate: TickRate,
+    sample_area: Option<Area>,
+    /// W/m² per net code, per range.
+    w_per_m2_per_code: [f64; MAX_RANGES],
+}
+
+impl Meter {
+    /// Join the stages. `sample_area` is the illuminated area of the sample (or vessel
+    /// aperture) used for doses in mol of photons; `None` if only per-area doses are needed.
+    ///
+    /// # Errors
+    /// [`MeterError`] naming the invalid stage.
+    pub fn new(
+        front_end: FrontEnd,
+        calibration: Calibration,
+        band: Band,
+        tick_rate: TickRate,
+        sample_area: Option<Area>,
+    ) -> Result<Self, MeterError> {
+        let k = calibration.factor().map_err(MeterError::Calibration)?;
+        let band = BandFactors::new(&band).map_err(MeterError::Band)?;
+        if let Some(a) = sample_area {
+            if !positive(a.m2()) {
+                return Err(MeterError::SampleArea);
+            }
+        }
+        let mut w_per_m2_per_code = [0.0; MAX_RANGES];
+        for (i, slot) in (0u8..).zip(w_per_m2_per_code.iter_mut()) {
+            if let Some(a) = front_end.amps_per_code(RangeIndex(i)) {
+                *slot = a * k.w_per_m2_per_a();
+            }
+        }
+        Ok(Self {
+            front_end,
+            calibration: k,
+            band,
+            tick_rate,
+            sample_area,
+            w_per_m2_per_code,
+        })
+    }
+
+    /// The validated front end.
+    #[must_use]
+    pub const fn front_end(&self) -> &FrontEnd {
+        &self.front_end
+    }
+
+    /// Mutable access to the front end (for dark-offset updates after a dark capture).
+    pub fn front_end_mut(&mut self) -> &mut FrontEnd {
+        &mut self.front_end
+    }
+
+    /// The band's photon conversion factors.
+    #[must_use]
+    pub const fn band(&self) -> &BandFactors {
+        &self.band
+    }
+
+    /// The calibration factor, (W/m²)/A.
+    #[must_use]
+    pub const fn calibration(&self) -> IrradiancePerCurrent {
+        self.calibration
+    }
+
+    /// The tick rate of the timestamps.
+    #[must_use]
+    pub const fn tick_rate(&self) -> TickRate {
+        self.tick_rate
+    }
+
+    /// The illuminated sample area, if configured.
+    #[must_use]
+    pub const fn sample_area(&self) -> Option<Area> {
+        self.sample_area
+    }
+
+    /// Irradiance of a photocurrent.
+    #[must_use]
+    pub fn irradiance_of_current(&self, i: Current) -> Irradiance {
+        Irradiance::from_w_per_m2(i.a() * self.calibration.w_per_m2_per_a())
+    }
+
+    /// Irradiance of a net (dark-corrected) code in range `r`; zero for an unknown range.
+    #[must_use]
+    pub fn irradiance(&self, net_code: i32, r: RangeIndex) -> Irradiance {
+        let k = self
+            .w_per_m2_per_code
+            .get(usize::from(r.0))
+            .copied()
+            .unwrap_or(0.0);
+        Irradiance::from_w_per_m2(f64::from(net_code) * k)
+    }
+
+    /// Photon irradiance for an irradiance in this band.
+    #[must_use]
+    pub fn photon_irradiance(&self, e: Irradiance) -> PhotonIrradiance {
+        PhotonIrradiance::from_mol_per_m2_s(e.w_per_m2() * self.band.mol_per_j())
+    }
+
+    /// Radiant exposure per integer unit of the dose engine in range `r`, J/m².
+    ///
+    /// One unit is one net code held for one tick, counted twice (trapezoid sums are halved at
+    /// read-out), so the factor is `½ · (W/m² per code) / tick_rate`. Zero for an unknown range.
+    #[must_use]
+    pub fn j_per_m2_per_unit(&self, r: RangeIndex) -> f64 {
+        let k = self
+            .w_per_m2_per_code
+            .get(usize::from(r.0))
+            .copied()
+            .unwrap_or(0.0);
+        0.5 * k / f64::from(self.tick_rate.hz())
+    }
+
+    /// Photon exposure for a radiant exposure in this band.
+    #[must_use]
+    pub fn photon_exposure(&self, h: RadiantExposure) -> PhotonExposure {
+        PhotonExposure::from_mol_per_m2(h.j_per_m2() * self.band.mol_per_j())
+    }
+
+    /// Photons received by the illuminated sample area for a radiant exposure, if an area is
+    /// configured.
+    #[must_use]
+    pub fn photon_amount(&self, h: RadiantExposure) -> Option<PhotonAmount> {
+        self.sample_area.map(|a| self.photon_exposure(h) * a)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::frontend::{AdcSpec, AmplifierRange, Coding};
+    use crate::quantity::{Transimpedance, Voltage, Wavelength};
+
+    fn rel(a: f64, b: f64) -> f64 {
+        ((a - b) / b).abs()
+    }
+
+    fn front_end() -> FrontEnd {
+        FrontEnd::new(
+            AdcSpec {
+                bits: 16,
+                reference: Voltage::from_v(2.5),
+                pga_gain: 1.0,
+                coding: Coding::Unipolar,
+                saturation_margin: 0,
+            },
+            &[AmplifierRange {
+                gain: Transimpedance::from_kohm(100.0),
+                dark_offset: 0,
+            }],
+        )
+        .unwrap()
+    }
+
+    #[test]
+    fn sensor_chain_inverts_exactly() {
+        // Sensor-chain check (computed from definitions): R = 0.20 A/W, area 1 mm²,
+        // E = 10 W/m² → P = 10 µW, I = 2.0 µA; 100 kΩ → 0.200 V; inverting gives 10 W/m².
+        let cal = Calibration::Responsivity {
+            responsivity: Responsivity::from_a_per_w(0.20),
+            active_area: Area::from_mm2(1.0),
+        };
+        let k = cal.factor().unwrap();
+        let e = Irradiance::from_w_per_m2(Current::from_ua(2.0).a() * k.w_per_m2_per_a());
+        assert!(rel(e.w_per_m2(), 10.0) < 1e-12);
+        let m = Meter::new(
+            front_end(),
+            cal,
+            Band::Line(Wavelength::from_nm(365.0)),
+            TickRate::from_hz(1000).unwrap(),
+            None,
+        )
+        .unwrap();
+        // 0.200 V at 2.5 V / 65 536 codes is 5242.88 codes.
+        let volts_per_code = 2.5 / 65_536.0;
+        let e = m.irradiance(5243, RangeIndex(0));
+        assert!(rel(e.w_per_m2(), 10.0 * 5243.0 * volts_per_code / 0.2) < 1e-12);
+    }
+
+    #[test]
+    fn photon_irradiance_at_365_nm() {
+        // Worked conversion, computed from the exact SI 2019 constants:
+        // 10 W/m² at 365 nm = 30.5116 µmol m⁻² s⁻¹.
+        let m = Meter::new(
+            front_end(),
+            Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e6)),
+            Band::Line(Wavelength::from_nm(365.0)),
+            TickRate::from_hz(1).unwrap(),
+            Some(Area::from_cm2(2.0)),
+        )
+        .unwrap();
+        let q = m.photon_irradiance(Irradiance::from_w_per_m2(10.0));
+        assert!(rel(q.umol_per_m2_s(), 30.5116) < 2e-6);
+        assert!(rel(q.photons_per_m2_s(), 1.837_453e19) < 1e-6);
+        let n = m
+            .photon_amount(RadiantExposure::from_j_per_m2(10.0))
+            .unwrap();
+        assert!(rel(n.umol(), 30.5116 * 2e-4) < 2e-6);
+    }
+
+    #[test]
+    fn invalid_calibration_is_named() {
+        let bad_r = Calibration::Responsivity {
+            responsivity: Responsivity::from_a_per_w(0.0),
+            active_area: Area::from_mm2(1.0),
+        };
+        assert_eq!(bad_r.factor(), Err(CalibrationError::Responsivity));
+        let bad_a = Calibration::Responsivity {
+            responsivity: Responsivity::from_a_per_w(0.1),
+            active_area: Area::from_mm2(f64::NAN),
+        };
+        assert_eq!(bad_a.factor(), Err(CalibrationError::ActiveArea));
+        let bad_k = Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(-1.0));
+        assert_eq!(bad_k.factor(), Err(CalibrationError::Factor));
+        let m = Meter::new(
+            front_end(),
+            Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1.0)),
+            Band::Line(Wavelength::from_nm(365.0)),
+            TickRate::from_hz(1).unwrap(),
+            Some(Area::from_m2(0.0)),
+        );
+        assert_eq!(m, Err(MeterError::SampleArea));
+    }
+}

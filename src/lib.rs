@@ -1,0 +1,137 @@
+//! # photon-ledger
+//!
+//! A `no_std`, allocation-free, panic-free library that turns a calibrated photodiode into a
+//! dose meter and a dose controller on a small microcontroller.
+//!
+//! What matters in photochemistry, UV curing and photobiology is how much light *arrived*,
+//! in the right units — not how long a lamp was on. This crate reads the photodiode,
+//! converts to irradiance and photon irradiance for the configured band, integrates the dose
+//! exactly, and switches the source off at the target.
+//!
+//! ## The pipeline, stage by stage
+//!
+//! ```text
+//!  photodiode ─ transimpedance amp (ranges) ─ ADC
+//!        │
+//!  reading     raw code + amplifier range + timestamp (ticks)       PhotodiodeAdc (nb)
+//!  autorange   range choice with hysteresis, select pins            OutputPin
+//!  frontend    code → net code → volts → photocurrent; saturation
+//!  band        band shape → photons per joule (configuration time)
+//!  irradiance  photocurrent → W/m²; Meter joins every stage
+//!  dose        exact integer trapezoid integral, thresholds
+//!  session     target, tolerance, enable/alarm outputs, phases
+//! ```
+//!
+//! 1. [`reading`] — the [`PhotodiodeAdc`](reading::PhotodiodeAdc) trait (one non-blocking
+//!    method), the [`Reading`](reading::Reading) it yields once the caller stamps it with
+//!    a tick count, and adapters for a closure and (feature `ads1x1x`) for the ADS1x1x I²C
+//!    converters through their maintained driver.
+//! 2. [`autorange`] — picks the amplifier range and drives the analog switch.
+//! 3. [`frontend`] — validated converter and amplifier description; net (dark-corrected)
+//!    code, saturation flags, volts and photocurrent.
+//! 4. [`band`] — a line or an LED-like band, reduced to photons per joule.
+//! 5. [`irradiance`] — calibration (responsivity × area or a certificate factor) and the
+//!    [`Meter`](irradiance::Meter) that combines all configuration into constants.
+//! 6. [`dose`] — the [`Integrator`](dose::Integrator): integer sums, segment per range,
+//!    thresholds pre-converted to integer units, explicit timing faults.
+//! 7. [`session`] — the [`Session`](session::Session): target in J/m², mol/m² or mol,
+//!    tolerance, phases, outputs, progress and time to target.
+//!
+//! Physical quantities are newtypes with the unit in every name ([`quantity`]). Time is
+//! always an argument: the library never reads a clock.
+//!
+//! ## Example
+//!
+//! ```
+//! use photon_ledger::prelude::*;
+//! # use core::convert::Infallible;
+//! # struct Pin;
+//! # impl embedded_hal::digital::ErrorType for Pin { type Error = Infallible; }
+//! # impl embedded_hal::digital::OutputPin for Pin {
+//! #     fn set_low(&mut self) -> Result<(), Infallible> { Ok(()) }
+//! #     fn set_high(&mut self) -> Result<(), Infallible> { Ok(()) }
+//! # }
+//! let front_end = FrontEnd::new(
+//!     AdcSpec { bits: 12, reference: Voltage::from_v(3.3), pga_gain: 1.0,
+//!               coding: Coding::Unipolar, saturation_margin: 2 },
+//!     &[AmplifierRange { gain: Transimpedance::from_kohm(100.0), dark_offset: 4 }],
+//! ).unwrap();
+//! let meter = Meter::new(
+//!     front_end,
+//!     Calibration::Responsivity { responsivity: Responsivity::from_a_per_w(0.2),
+//!                                 active_area: Area::from_mm2(1.0) },
+//!     Band::Led { peak: Wavelength::from_nm(405.0), fwhm: Wavelength::from_nm(15.0) },
+//!     TickRate::from_hz(1_000).unwrap(),
+//!     None,
+//! ).unwrap();
+//! let config = SessionConfig {
+//!     target: DoseAmount::RadiantExposure(RadiantExposure::from_mj_per_cm2(5.0)),
+//!     tolerance: DoseAmount::RadiantExposure(RadiantExposure::from_mj_per_cm2(0.5)),
+//!     max_gap_ticks: 100,
+//!     max_unusable_run: 0,
+//!     enable_level: ActiveLevel::High,
+//!     alarm_level: ActiveLevel::High,
+//! };
+//! let mut session = Session::new(meter, config, Pin, Pin).map_err(|_| ()).unwrap();
+//! session.start().unwrap();
+//! // 2000 codes ≈ 8.05 W/m² here; sample every 10 ms until the target is met.
+//! let mut t = 0;
+//! while session.phase() == Phase::Exposing {
+//!     session.on_reading(&Reading { code: 2004, range: RangeIndex(0), at: Ticks(t) }).unwrap();
+//!     t += 10;
+//! }
+//! assert_eq!(session.phase(), Phase::TargetMet);
+//! assert!(session.progress().exposure.mj_per_cm2() >= 5.0);
+//! ```
+//!
+//! ## Guarantees
+//!
+//! - `#![no_std]`, no allocator, `#![forbid(unsafe_code)]`; fixed capacity everywhere.
+//! - No panicking path in library code (checked by a link-time test on `thumbv6m-none-eabi`).
+//! - Configuration is validated once into typed errors; a running pipeline holds only valid
+//!   configuration.
+//!
+//! This crate is **not** a certified safety device. Read `SAFETY.md` before wiring it to a
+//! source of hazardous light.
+
+#![cfg_attr(not(test), no_std)]
+#![forbid(unsafe_code)]
+#![warn(missing_docs)]
+#![warn(
+    clippy::unwrap_used,
+    clippy::expect_used,
+    clippy::panic,
+    clippy::indexing_slicing,
+    clippy::use_self
+)]
+#![cfg_attr(test, allow(clippy::unwrap_used, clippy::indexing_slicing))]
+
+pub mod autorange;
+pub mod band;
+pub mod dose;
+pub mod frontend;
+pub mod irradiance;
+pub mod quantity;
+pub mod reading;
+pub mod session;
+
+#[cfg(feature = "ads1x1x")]
+pub mod ads1x1x_adc;
+
+/// The types most firmware needs, in one import.
+pub mod prelude {
+    pub use crate::autorange::{Autorange, AutorangeConfig, Decision};
+    pub use crate::band::{Band, BandFactors};
+    pub use crate::dose::{Integrator, Rounding, SampleError};
+    pub use crate::frontend::{AdcSpec, AmplifierRange, CodeFault, Coding, FrontEnd};
+    pub use crate::irradiance::{Calibration, Meter};
+    pub use crate::quantity::{
+        Area, Current, Irradiance, IrradiancePerCurrent, PhotonAmount, PhotonExposure, PhotonFlux,
+        PhotonIrradiance, RadiantExposure, Responsivity, Seconds, Transimpedance, Voltage,
+        Wavelength,
+    };
+    pub use crate::reading::{FnAdc, PhotodiodeAdc, RangeIndex, Reading, TickRate, Ticks};
+    pub use crate::session::{
+        ActiveLevel, DoseAmount, Fault, Outcome, Phase, Progress, Session, SessionConfig,
+    };
+}
