@@ -12,7 +12,7 @@
 //! use ads1x1x::{channel, Ads1x1x, TargetAddr};
 //! use photon_ledger::ads1x1x_adc::Ads1x1xAdc;
 //! let dev = Ads1x1x::new_ads1115(i2c, TargetAddr::default());
-//! let adc = Ads1x1xAdc::new(dev, channel::DifferentialA0A1);
+//! let adc = Ads1x1xAdc::new(dev, || channel::DifferentialA0A1);
 //! # let _ = adc; }
 //! ```
 
@@ -24,13 +24,15 @@ use crate::reading::PhotodiodeAdc;
 #[allow(missing_debug_implementations)]
 pub struct Ads1x1xAdc<I2C, IC, CONV, CH> {
     device: Ads1x1x<I2C, IC, CONV, mode::OneShot>,
-    channel: CH,
+    channel: fn() -> CH,
 }
 
 impl<I2C, IC, CONV, CH> Ads1x1xAdc<I2C, IC, CONV, CH> {
-    /// Read `channel` of a configured one-shot device (set its full-scale range and data rate
-    /// through the driver first).
-    pub const fn new(device: Ads1x1x<I2C, IC, CONV, mode::OneShot>, channel: CH) -> Self {
+    /// Read a channel of a configured one-shot device (set its full-scale range and data rate
+    /// through the driver first). The driver's channel markers are neither `Copy` nor
+    /// `Clone`, so the channel is given as a function that makes one, e.g.
+    /// `|| channel::SingleA0`.
+    pub const fn new(device: Ads1x1x<I2C, IC, CONV, mode::OneShot>, channel: fn() -> CH) -> Self {
         Self { device, channel }
     }
 
@@ -44,11 +46,11 @@ impl<I2C, IC, CONV, CH, E> PhotodiodeAdc for Ads1x1xAdc<I2C, IC, CONV, CH>
 where
     I2C: embedded_hal::i2c::I2c<Error = E>,
     CONV: ConvertMeasurement,
-    CH: ChannelId<Ads1x1x<I2C, IC, CONV, mode::OneShot>> + Copy,
+    CH: ChannelId<Ads1x1x<I2C, IC, CONV, mode::OneShot>>,
 {
     type Error = ads1x1x::Error<E>;
 
     fn poll_code(&mut self) -> nb::Result<i32, Self::Error> {
-        self.device.read(self.channel).map(i32::from)
+        self.device.read((self.channel)()).map(i32::from)
     }
 }

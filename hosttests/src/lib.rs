@@ -1,1 +1,8 @@
-//! Host-side simulation models for photon-ledger.
+//! Host-side companions of photon-ledger: simulation models of the analog chain (light source,
+//! photodiode, amplifier, ADC, pins), reference-value suites and benches.
+//!
+//! Nothing here runs on the target; firmware-shaped host code (the examples) uses these models
+//! through the same traits as hardware.
+
+pub mod fixtures;
+pub mod sim;
