@@ -109,6 +109,7 @@
 pub mod autorange;
 pub mod band;
 pub mod dose;
+pub mod exposure;
 pub mod frontend;
 pub mod irradiance;
 pub mod quantity;

@@ -1,0 +1,393 @@
+//! Personal exposure monitoring through the public API.
+
+mod common;
+
+use common::{meter, reading};
+use embedded_hal_mock::eh1::digital::{Mock as PinMock, State, Transaction as Pin};
+use hosttests::sim::SimPin;
+use photon_ledger::exposure::display::{dose_line, solar_line};
+use photon_ledger::exposure::{
+    max_exposure_time, ExposureConfig, ExposureConfigError, ExposureMonitor, ReadingIssue,
+    RollingWindow, SolarMonitor, UvaEyeRule, UviCategory, WeightFactor,
+};
+use photon_ledger::prelude::*;
+
+const S: u32 = 1000; // ticks per second of the common meter
+const MIN: u32 = 60 * S;
+const HOUR: u32 = 3600 * S;
+
+/// ICNIRP 2004, Table 1: S(254 nm) = 0.5 (relative spectral effectiveness), for a 254 nm line.
+fn s254() -> WeightFactor {
+    WeightFactor::from_ratio(0.5).unwrap()
+}
+
+fn icnirp_config() -> ExposureConfig<3> {
+    ExposureConfig {
+        window_ticks: 8 * HOUR,
+        bucket_ticks: MIN,
+        // ICNIRP 2004: H_eff ≤ 30 J/m² in any 8 h.
+        limit: RadiantExposure::from_j_per_m2(30.0),
+        levels: [0.5, 0.8, 1.0],
+        hysteresis: 0.05,
+        max_gap_ticks: 10 * S,
+    }
+}
+
+type Monitor = ExposureMonitor<481, 3, SimPin>;
+
+fn monitor() -> (Monitor, [SimPin; 3]) {
+    let pins = [SimPin::new(), SimPin::new(), SimPin::new()];
+    let m = Monitor::new(meter(), s254(), icnirp_config(), pins.clone()).unwrap();
+    (m, pins)
+}
+
+#[test]
+fn permissible_time_at_254_nm() {
+    // 0.1 W/m² at 254 nm: E_eff = 0.5 × 0.1 = 0.05 W/m² (ICNIRP 2004 S(254) = 0.5);
+    // t_max = 30 / E_eff = 600 s (IEC 62471:2006 Eq. 4.2).
+    let t = max_exposure_time(
+        RadiantExposure::from_j_per_m2(30.0),
+        Irradiance::from_w_per_m2(0.05),
+    )
+    .unwrap();
+    assert!((t.s() - 600.0).abs() < 1e-12);
+    assert!(max_exposure_time(RadiantExposure::from_j_per_m2(30.0), Irradiance::ZERO).is_none());
+
+    let (mut m, pins) = monitor();
+    m.on_reading(&reading(100, 0)).unwrap(); // 100 codes = 0.1 W/m²
+    m.on_reading(&reading(100, S)).unwrap();
+    let left = m.time_left().unwrap().s();
+    assert!((left - 599.0).abs() < 1e-3, "{left}");
+    let mut alarm_at = None;
+    for k in 2..=700u32 {
+        let c = m.on_reading(&reading(100, k * S)).unwrap();
+        if c.alarm_latched {
+            alarm_at = Some(k);
+            break;
+        }
+    }
+    // The alarm trips no later than the first sample at or after 600 s.
+    assert_eq!(alarm_at, Some(600));
+    assert!(pins.iter().all(SimPin::is_high));
+    assert!(m.fraction_used() >= 1.0 - 1e-9);
+}
+
+#[test]
+fn warnings_rise_with_outputs_and_the_alarm_stays_latched() {
+    // Pins set low at start, then each rises once; after the window empties levels 0 and 1
+    // clear by themselves, the alarm only after acknowledgement.
+    let p0 = PinMock::new(&[
+        Pin::set(State::Low),
+        Pin::set(State::High),
+        Pin::set(State::Low),
+    ]);
+    let p1 = PinMock::new(&[
+        Pin::set(State::Low),
+        Pin::set(State::High),
+        Pin::set(State::Low),
+    ]);
+    let p2 = PinMock::new(&[
+        Pin::set(State::Low),
+        Pin::set(State::High),
+        Pin::set(State::Low),
+    ]);
+    let mut checks = [p0.clone(), p1.clone(), p2.clone()];
+    let mut m =
+        ExposureMonitor::<481, 3, PinMock>::new(meter(), s254(), icnirp_config(), [p0, p1, p2])
+            .unwrap();
+    let mut raised_at = [0u32; 3];
+    for k in 0..=620u32 {
+        let c = m.on_reading(&reading(100, k * S)).unwrap();
+        for (i, at) in raised_at.iter_mut().enumerate() {
+            if c.raised & (1 << i) != 0 {
+                *at = k;
+            }
+        }
+    }
+    // 50 %, 80 %, 100 % of 30 J/m² at 0.05 W/m² effective: 300 s, 480 s, 600 s.
+    assert_eq!(raised_at, [300, 480, 600]);
+    assert!(m.alarm_latched());
+    // Light off; readings continue hourly for 9 h: the dose leaves the 8 h window exactly.
+    let mut t = 620 * S;
+    m.on_reading(&reading(0, t + S)).unwrap();
+    for _ in 0..9 {
+        t += HOUR;
+        m.tick(Ticks(t)).unwrap();
+    }
+    assert_eq!(m.window_exposure().j_per_m2(), 0.0);
+    assert_eq!(m.active_levels(), 0b100, "only the latched alarm remains");
+    assert!(!m.acknowledge().unwrap());
+    assert_eq!(m.active_levels(), 0);
+    for p in &mut checks {
+        p.done();
+    }
+}
+
+#[test]
+fn window_subtracts_expired_dose_exactly() {
+    let (mut m, _) = monitor();
+    // One hour at 0.01 W/m² (10 codes): 36 J/m² radiant, 18 J/m² effective.
+    for k in 0..=3600u32 {
+        m.on_reading(&reading(10, k * S)).unwrap();
+    }
+    let h = m.window_exposure().j_per_m2();
+    // Exact trapezoid of a constant: 0.005 W/m² eff × 3600 s = 18 J/m²; each of ~61 buckets
+    // rounds up by less than 1 µJ/m².
+    assert!((18.0..18.0 + 61e-6).contains(&h), "{h}");
+    let shift = m.shift_totals().exposure.j_per_m2();
+    assert!((shift - 18.0).abs() < 1e-6, "{shift}");
+    // 0.5 × 10 codes × 1 s of the fall to dark, effective: 0.0025 J/m² more.
+    let shift = shift + 0.0025;
+    // The light goes off (one dark reading), then the logger sleeps and only ticks the
+    // window every minute. For 7 h everything is still inside the window.
+    let mut t = 3601 * S;
+    m.on_reading(&reading(0, t)).unwrap();
+    let h = m.window_exposure().j_per_m2();
+    for _ in 0..7 * 60 {
+        t += MIN;
+        m.tick(Ticks(t)).unwrap();
+    }
+    assert!((m.window_exposure().j_per_m2() - h).abs() < 1e-9);
+    // Two more hours: every lit bucket has left.
+    for _ in 0..2 * 60 {
+        t += MIN;
+        m.tick(Ticks(t)).unwrap();
+    }
+    assert_eq!(m.window_exposure().j_per_m2(), 0.0);
+    // The shift total keeps it until the explicit end of the shift.
+    let totals = m.end_shift();
+    assert!((totals.exposure.j_per_m2() - shift).abs() < 1e-9);
+    assert_eq!(m.shift_totals().exposure.j_per_m2(), 0.0);
+}
+
+#[test]
+fn gaps_are_charged_with_a_conservative_bound() {
+    let (mut m, _) = monitor();
+    m.on_reading(&reading(40, 0)).unwrap();
+    m.on_reading(&reading(40, S)).unwrap();
+    // Silent for 60 s (max gap 10 s): charged at the last irradiance, 0.02 W/m² eff × 60 s.
+    let c = m.on_reading(&reading(0, 61 * S)).unwrap();
+    let gap = c.gap.expect("gap reported");
+    assert_eq!(gap.ticks, 60 * S);
+    assert!((gap.bound.j_per_m2() - 1.2).abs() < 1e-6);
+    let t = m.shift_totals();
+    assert_eq!(t.gaps, 1);
+    assert!((t.exposure.j_per_m2() - (0.02 + 1.2)).abs() < 1e-6);
+}
+
+#[test]
+fn clock_backwards_and_bad_codes_lose_nothing() {
+    let (mut m, _) = monitor();
+    for k in 0..=10 {
+        m.on_reading(&reading(100, k * S)).unwrap();
+    }
+    let before = m.window_exposure();
+    let c = m.on_reading(&reading(100, 5 * S)).unwrap();
+    assert_eq!(c.ignored, Some(ReadingIssue::Backwards));
+    let c = m.on_reading(&reading(4095, 11 * S)).unwrap();
+    assert!(matches!(
+        c.ignored,
+        Some(ReadingIssue::Code(CodeFault::SaturatedHigh))
+    ));
+    assert_eq!(m.window_exposure(), before);
+    // The next good reading bridges the interval from the last good one.
+    m.on_reading(&reading(100, 12 * S)).unwrap();
+    assert!((m.window_exposure().j_per_m2() - 0.6).abs() < 1e-5);
+}
+
+#[test]
+fn shift_reset_during_an_alarm_keeps_the_alarm_and_the_window() {
+    let (mut m, pins) = monitor();
+    for k in 0..=601u32 {
+        m.on_reading(&reading(100, k * S)).unwrap();
+    }
+    assert!(m.alarm_latched());
+    let totals = m.end_shift();
+    assert!(totals.alarm_latched);
+    assert!(m.alarm_latched());
+    assert!(pins[2].is_high());
+    assert!(m.window_exposure().j_per_m2() >= 30.0);
+}
+
+#[test]
+fn configuration_errors_are_named() {
+    let bad = |f: &dyn Fn(&mut ExposureConfig<3>)| {
+        let mut c = icnirp_config();
+        f(&mut c);
+        match Monitor::new(
+            meter(),
+            s254(),
+            c,
+            [SimPin::new(), SimPin::new(), SimPin::new()],
+        ) {
+            Err(Ok(e)) => e,
+            other => panic!(
+                "expected a configuration error, got {:?}",
+                other.map(|_| ())
+            ),
+        }
+    };
+    assert_eq!(
+        bad(&|c| c.window_ticks = 8 * HOUR + 1),
+        ExposureConfigError::WindowNotWholeBuckets
+    );
+    assert_eq!(
+        bad(&|c| c.bucket_ticks = 0),
+        ExposureConfigError::WindowNotWholeBuckets
+    );
+    assert_eq!(
+        bad(&|c| c.bucket_ticks = MIN / 2),
+        ExposureConfigError::WindowTooLong
+    );
+    assert_eq!(
+        bad(&|c| c.limit = RadiantExposure::from_j_per_m2(0.0)),
+        ExposureConfigError::Limit
+    );
+    assert_eq!(
+        bad(&|c| c.limit = RadiantExposure::from_j_per_m2(f64::NAN)),
+        ExposureConfigError::Limit
+    );
+    assert_eq!(
+        bad(&|c| c.levels = [0.5, 0.5, 1.0]),
+        ExposureConfigError::WarningLevels
+    );
+    assert_eq!(
+        bad(&|c| c.levels = [0.8, 0.5, 1.0]),
+        ExposureConfigError::WarningLevels
+    );
+    assert_eq!(
+        bad(&|c| c.hysteresis = 0.6),
+        ExposureConfigError::Hysteresis
+    );
+    assert_eq!(
+        bad(&|c| c.hysteresis = -0.1),
+        ExposureConfigError::Hysteresis
+    );
+    assert_eq!(bad(&|c| c.max_gap_ticks = 0), ExposureConfigError::MaxGap);
+    assert!(WeightFactor::from_ratio(0.0).is_none());
+    assert!(WeightFactor::from_ratio(f64::INFINITY).is_none());
+}
+
+#[test]
+fn uv_index_and_sed() {
+    // A band whose erythemal weight factor is 1 (all light in 250–298 nm, s_er = 1, ISO/CIE
+    // 17166), so the erythemal irradiance equals the reading.
+    let er = WeightFactor::UNWEIGHTED;
+    let mut solar = SolarMonitor::<11>::new(&meter(), er, 10 * MIN, MIN, 10 * S).unwrap();
+    // E_er = 0.2 W/m² → UVI 8.0 (WHO 2002 example), category "very high" (8–10, WHO 2002).
+    for k in 0..=(11 * 60) {
+        solar.accept(200, RangeIndex(0), Ticks(k * S)).unwrap();
+    }
+    assert!(
+        (solar.uv_index() - 8.0).abs() < 1e-3,
+        "{}",
+        solar.uv_index()
+    );
+    assert_eq!(solar.uv_index_reported(), (8, UviCategory::VeryHigh));
+    assert!((solar.uv_index_now() - 8.0).abs() < 1e-12);
+
+    // E_er = 75 mW/m² → UVI 3 (SMHI units page), "moderate"; 1 h at UVI 1 (25 mW/m²) is
+    // 90 J/m² = 0.9 SED (McKenzie, "scaling UV damage"; 1 SED = 100 J/m², ISO/CIE 17166).
+    let mut solar = SolarMonitor::<11>::new(&meter(), er, 10 * MIN, MIN, 10 * S).unwrap();
+    for k in 0..=3600 {
+        solar.accept(75, RangeIndex(0), Ticks(k * S)).unwrap();
+    }
+    assert_eq!(solar.uv_index_reported(), (3, UviCategory::Moderate));
+    assert!((solar.day_sed() - 3.0 * 0.9).abs() < 1e-6);
+    solar.reset_day();
+    assert_eq!(solar.day_sed(), 0.0);
+}
+
+#[test]
+fn who_categories_on_rounded_integers() {
+    // WHO 2002 categories: 0–2 low, 3–5 moderate, 6–7 high, 8–10 very high, 11+ extreme.
+    let expect = [
+        (0, UviCategory::Low),
+        (2, UviCategory::Low),
+        (3, UviCategory::Moderate),
+        (5, UviCategory::Moderate),
+        (6, UviCategory::High),
+        (7, UviCategory::High),
+        (8, UviCategory::VeryHigh),
+        (10, UviCategory::VeryHigh),
+        (11, UviCategory::Extreme),
+        (15, UviCategory::Extreme),
+    ];
+    for (u, c) in expect {
+        assert_eq!(UviCategory::of(u), c, "{u}");
+    }
+}
+
+#[test]
+fn uva_eye_rule_sets_stay_apart() {
+    // IEC 62471:2006 §4.3.2: 10⁴ J/m² for t ≤ 1000 s, then 10 W/m²; Directive 2006/25/EC:
+    // 10⁴ J/m² per 8 h. Continuous at 1000 s; 28.8× apart at 8 h (reference-values D7).
+    let iec = UvaEyeRule::Iec62471;
+    let eu = UvaEyeRule::EuDirective;
+    assert_eq!(iec.allowance(Seconds::from_s(500.0)).j_per_m2(), 1e4);
+    assert_eq!(iec.allowance(Seconds::from_s(1000.0)).j_per_m2(), 1e4);
+    assert_eq!(iec.allowance(Seconds::from_s(3600.0)).j_per_m2(), 36_000.0);
+    let eight_h = Seconds::from_s(8.0 * 3600.0);
+    assert_eq!(eu.allowance(eight_h).j_per_m2(), 1e4);
+    assert!(
+        (iec.allowance(eight_h).j_per_m2() / eu.allowance(eight_h).j_per_m2() - 28.8).abs() < 1e-12
+    );
+}
+
+#[test]
+fn display_lines_fit_and_read_right() {
+    assert_eq!(
+        dose_line(
+            0.421,
+            Some(Seconds::from_s(3.0 * 3600.0 + 7.0 * 60.0 + 59.0))
+        )
+        .as_str(),
+        "DOSE  43% 3h07m"
+    );
+    assert_eq!(dose_line(0.0, None).as_str(), "DOSE   0%   --");
+    assert_eq!(
+        dose_line(0.999, Some(Seconds::from_s(5.2))).as_str(),
+        "DOSE 100% STOP"
+    );
+    assert_eq!(
+        dose_line(0.5, Some(Seconds::from_s(125.0))).as_str(),
+        "DOSE  50% 2m05s"
+    );
+    assert_eq!(
+        solar_line(7, UviCategory::High, 1.23).as_str(),
+        "UVI  7 HIGH1.3S"
+    );
+    assert_eq!(
+        solar_line(11, UviCategory::Extreme, 0.0).as_str(),
+        "UVI 11 EXT 0.0S"
+    );
+    for l in [
+        dose_line(9.99, Some(Seconds::from_s(1e9))),
+        solar_line(u16::MAX, UviCategory::Extreme, 1e9),
+    ] {
+        assert!(l.len() <= 16);
+    }
+}
+
+#[test]
+fn sampling_plan_speeds_up_on_change() {
+    let plan = photon_ledger::exposure::SamplingPlan {
+        slow_ticks: 10 * S,
+        fast_ticks: S,
+        change: 0.2,
+        floor: Irradiance::from_w_per_m2(1e-4),
+    };
+    let e = Irradiance::from_w_per_m2;
+    assert_eq!(plan.next_delay(e(1.0), e(1.05)), 10 * S);
+    assert_eq!(plan.next_delay(e(1.0), e(1.5)), S);
+    assert_eq!(plan.next_delay(e(1.0), e(0.5)), S);
+    assert_eq!(plan.next_delay(e(0.0), e(0.00005)), 10 * S);
+}
+
+#[test]
+fn rolling_window_ram_at_one_minute_buckets_over_8_h() {
+    // 480 complete buckets + the current one, 4 bytes each, plus bookkeeping.
+    let size = core::mem::size_of::<RollingWindow<481>>();
+    println!("RollingWindow<481> (8 h in 1-min buckets): {size} bytes");
+    assert!(size <= 481 * 4 + 64, "{size}");
+}
