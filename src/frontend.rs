@@ -219,6 +219,18 @@ impl FrontEnd {
         self.ranges.get(usize::from(r.0))
     }
 
+    /// The converter's bottom code (0, or −2^(bits−1) for bipolar coding).
+    #[must_use]
+    pub const fn min_code(&self) -> i32 {
+        self.min_code
+    }
+
+    /// The converter's top code (2^bits − 1, or 2^(bits−1) − 1 for bipolar coding).
+    #[must_use]
+    pub const fn max_code(&self) -> i32 {
+        self.max_code
+    }
+
     /// Largest code that is still a valid value (top rail minus the saturation margin).
     #[must_use]
     pub const fn high_limit(&self) -> i32 {

@@ -112,6 +112,7 @@ pub mod dose;
 pub mod exposure;
 pub mod frontend;
 pub mod irradiance;
+pub mod plausibility;
 pub mod quantity;
 pub mod reading;
 pub mod session;

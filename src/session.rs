@@ -124,6 +124,8 @@ pub enum Fault {
     Output,
     /// The ADC (or its bus) reported an error to the caller.
     Sensor,
+    /// A plausibility check failed (see [`crate::plausibility`]).
+    Implausible(crate::plausibility::Implausible),
     /// The firmware aborted the run.
     Aborted,
 }
