@@ -108,12 +108,15 @@
 
 pub mod autorange;
 pub mod band;
+pub mod calibration;
 pub mod dose;
 pub mod frontend;
 pub mod irradiance;
 pub mod quantity;
 pub mod reading;
 pub mod session;
+pub mod spectrum;
+pub mod weighting;
 
 #[cfg(feature = "ads1x1x")]
 pub mod ads1x1x_adc;
@@ -133,5 +136,12 @@ pub mod prelude {
     pub use crate::reading::{FnAdc, PhotodiodeAdc, RangeIndex, Reading, TickRate, Ticks};
     pub use crate::session::{
         ActiveLevel, DoseAmount, Fault, Outcome, Phase, Progress, Session, SessionConfig,
+    };
+    pub use crate::spectrum::{
+        Detector, IntegrationRule, Source, SpectralFactors, Spectrum, SpectrumRef, WavelengthRange,
+    };
+    pub use crate::weighting::{
+        FactorSet, UvBand, UvBandEdges, UvIndex, WeightedExposure, WeightedIrradiance, Weighting,
+        WeightingKind,
     };
 }
