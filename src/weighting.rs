@@ -32,7 +32,7 @@
 
 use crate::quantity::{Irradiance, RadiantExposure, Seconds, Wavelength};
 use crate::spectrum::{
-    weighted_fraction, Detector, IntegrationRule, RangeError, Source, SpectralError,
+    snap_nm, weighted_fraction, Detector, IntegrationRule, RangeError, Source, SpectralError,
     SpectralFactors, SpectrumRef, WavelengthRange,
 };
 use core::ops::Mul;
@@ -136,7 +136,7 @@ fn hazard_table() -> SpectrumRef<'static> {
 /// Configuration time only (`libm::exp10`).
 #[must_use]
 pub fn cie_erythema(w: Wavelength) -> f64 {
-    erythema_nm(w.nm())
+    erythema_nm(snap_nm(w))
 }
 
 fn erythema_nm(nm: f64) -> f64 {
@@ -156,7 +156,7 @@ fn erythema_nm(nm: f64) -> f64 {
 /// 180 ..= 400 nm. Configuration time only (`libm::pow`).
 #[must_use]
 pub fn uv_hazard(w: Wavelength) -> f64 {
-    hazard_table().log_linear_nm(w.nm()).unwrap_or(0.0)
+    hazard_table().log_linear_nm(snap_nm(w)).unwrap_or(0.0)
 }
 
 /// How a user weighting table is interpolated between its points.
@@ -223,7 +223,7 @@ impl Weighting<'_> {
     /// their range, `None` everywhere).
     #[must_use]
     pub fn value_at(&self, w: Wavelength) -> f64 {
-        let nm = w.nm();
+        let nm = snap_nm(w);
         let (lo, hi) = self.support_nm();
         if (lo..=hi).contains(&nm) {
             self.value_in_support_nm(nm)
@@ -236,7 +236,7 @@ impl Weighting<'_> {
     pub(crate) fn check_for_band(&self, band: WavelengthRange) -> Result<(), SpectralError> {
         match self {
             Self::CieErythema { lower_limit } => {
-                let l = lower_limit.nm();
+                let l = snap_nm(*lower_limit);
                 if l.is_finite() && (ERYTHEMA_LOWER_LIMIT_NM..ERYTHEMA_UPPER_LIMIT_NM).contains(&l)
                 {
                     Ok(())
@@ -271,7 +271,7 @@ impl Weighting<'_> {
                 crate::band::MAX_WAVELENGTH_NM,
             ),
             Self::Window(r) => (r.lo_nm(), r.hi_nm()),
-            Self::CieErythema { lower_limit } => (lower_limit.nm(), ERYTHEMA_UPPER_LIMIT_NM),
+            Self::CieErythema { lower_limit } => (snap_nm(*lower_limit), ERYTHEMA_UPPER_LIMIT_NM),
             Self::UvHazard => hazard_table().span_nm(),
             Self::UvaUnweighted => UVA_LIMIT_RANGE_NM,
             Self::Table { table, .. } => table.span_nm(),
@@ -394,10 +394,10 @@ impl UvBandEdges {
         WavelengthRange::new(uvb_lo, uva_lo)?;
         WavelengthRange::new(uva_lo, uva_hi)?;
         Ok(Self {
-            uvc_lo_nm: uvc_lo.nm(),
-            uvb_lo_nm: uvb_lo.nm(),
-            uva_lo_nm: uva_lo.nm(),
-            uva_hi_nm: uva_hi.nm(),
+            uvc_lo_nm: snap_nm(uvc_lo),
+            uvb_lo_nm: snap_nm(uvb_lo),
+            uva_lo_nm: snap_nm(uva_lo),
+            uva_hi_nm: snap_nm(uva_hi),
         })
     }
 
