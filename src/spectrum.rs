@@ -1134,6 +1134,54 @@ pub fn corrected_certificate(
     Ok(IrradiancePerCurrent::from_w_per_m2_per_a(finite(f * k)?))
 }
 
+/// Refractive index of standard air minus one, (n − 1), at a wavelength: the dispersion
+/// formula of Peck & Reeder, J. Opt. Soc. Am. 62, 958 (1972) (dry air, 15 °C, 101 325 Pa,
+/// 0.033 % CO₂; coefficients from memory, checked against the vacuum values computed in the
+/// project's reference table to 0.1 pm). Stated valid 230–1690 nm; `None` outside 200–2000 nm.
+#[must_use]
+pub fn air_refractivity(w: Wavelength) -> Option<f64> {
+    let um = w.nm() * 1e-3;
+    if !(0.2..=2.0).contains(&um) {
+        return None;
+    }
+    let s2 = 1.0 / (um * um);
+    Some(1e-8 * (8_060.51 + 2_480_990.0 / (132.274 - s2) + 17_455.7 / (39.329_57 - s2)))
+}
+
+/// The vacuum wavelength of a standard-air wavelength (line lists such as the mercury lines
+/// are printed in air; every wavelength in this crate is a vacuum wavelength). `None` outside
+/// the range of [`air_refractivity`]. The refractivity is evaluated at the air wavelength;
+/// the error of that shortcut is below 10⁻¹⁰ relative.
+#[must_use]
+pub fn air_to_vacuum(air: Wavelength) -> Option<Wavelength> {
+    air_refractivity(air).map(|r| Wavelength::from_m(air.m() * (1.0 + r)))
+}
+
+/// Mercury emission lines as printed, **standard-air** wavelengths in nm (NIST Handbook of
+/// Basic Atomic Spectroscopic Data / Sansonetti, Salit & Reader, Appl. Opt. 35, 74 (1996)).
+/// Convert with [`air_to_vacuum`] before use. The third decimal of 253.652 and 296.728 nm is
+/// from memory (the two-decimal values are verified).
+pub mod mercury_air_nm {
+    /// Resonance line (low-pressure lamps).
+    pub const HG_253_652: f64 = 253.652;
+    /// 296.7 nm line.
+    pub const HG_296_728: f64 = 296.728;
+    /// 302.2 nm line.
+    pub const HG_302_150: f64 = 302.150;
+    /// Stronger component of the 313 nm doublet.
+    pub const HG_313_155: f64 = 313.155;
+    /// 334.1 nm line.
+    pub const HG_334_148: f64 = 334.148;
+    /// i-line.
+    pub const HG_365_015: f64 = 365.015;
+    /// h-line.
+    pub const HG_404_656: f64 = 404.656;
+    /// g-line.
+    pub const HG_435_833: f64 = 435.833;
+    /// Green line.
+    pub const HG_546_074: f64 = 546.074;
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -1679,6 +1727,37 @@ mod tests {
         assert_eq!(snap_nm(nm(253.728)), 253.728);
         // ICNIRP 2004 Table 1: S(395 nm) = 0.000036, read back with the printed digits.
         assert_eq!(uv_hazard(nm(395.0)), 0.000_036);
+    }
+
+    #[test]
+    fn mercury_lines_air_to_vacuum() {
+        // reference-values §6: NIST standard-air wavelengths and the vacuum wavelengths computed
+        // there (Peck & Reeder / Edlén agree to 0.1 pm); line positions to ±0.001 nm.
+        use mercury_air_nm::*;
+        for (air, vac) in [
+            (HG_253_652, 253.728),
+            (HG_296_728, 296.815),
+            (HG_302_150, 302.238),
+            (HG_313_155, 313.246),
+            (HG_334_148, 334.244),
+            (HG_365_015, 365.119),
+            (HG_404_656, 404.770),
+            (HG_435_833, 435.956),
+            (HG_546_074, 546.226),
+        ] {
+            let v = air_to_vacuum(nm(air)).unwrap().nm();
+            assert!((v - vac).abs() <= 0.001, "{air}: {v}");
+        }
+        // n_air − 1 ≈ 3.0e-4 at 254 nm and 2.8e-4 at 436 nm (reference-values §1b).
+        assert!((air_refractivity(nm(254.0)).unwrap() - 3.0e-4).abs() < 0.05e-4);
+        assert!((air_refractivity(nm(436.0)).unwrap() - 2.8e-4).abs() < 0.05e-4);
+        assert_eq!(air_to_vacuum(nm(150.0)), None);
+        // Using the air value overstates the photon energy by ~0.03 %: 4.886 50 eV (vacuum)
+        // vs 4.887 96 eV (air value wrongly used), computed in reference-values §1b.
+        let e_vac = air_to_vacuum(nm(HG_253_652)).unwrap().photon_energy().ev();
+        let e_air = nm(HG_253_652).photon_energy().ev();
+        assert!((e_vac - 4.886_50).abs() <= 0.000_005);
+        assert!((e_air - 4.887_96).abs() <= 0.000_005);
     }
 
     #[test]
