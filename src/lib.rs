@@ -17,6 +17,9 @@
 //!  autorange   range choice with hysteresis, select pins            OutputPin
 //!  frontend    code → net code → volts → photocurrent; saturation
 //!  band        band shape → photons per joule (configuration time)
+//!  spectrum    tables, sources, detector → W/m² per A, mismatch F* (configuration time)
+//!  weighting   action spectra → weighted/erythemal/UVI factors (configuration time)
+//!  calibration calibration record: CRC-sealed flash format, expiry, temperature
 //!  irradiance  photocurrent → W/m²; Meter joins every stage
 //!  dose        exact integer trapezoid integral, thresholds
 //!  session     target, tolerance, enable/alarm outputs, phases
@@ -30,6 +33,13 @@
 //! 3. [`frontend`] — validated converter and amplifier description; net (dark-corrected)
 //!    code, saturation flags, volts and photocurrent.
 //! 4. [`band`] — a line or an LED-like band, reduced to photons per joule.
+//!    [`spectrum`] — fixed-capacity spectral tables, line / LED / tabulated sources, a
+//!    detector responsivity table; the configuration-time integrals (effective responsivity,
+//!    photons per joule, spectral mismatch factor). [`weighting`] — none, CIE erythema,
+//!    ICNIRP/IEC 62471 S(λ), UV-A, user tables; UV index, SED, t_max; the
+//!    [`FactorSet`](weighting::FactorSet) of constants for the read-out.
+//!    [`calibration`] — the calibration record, its CRC-32 flash encoding, expiry policy,
+//!    temperature compensation and transfer calibration.
 //! 5. [`irradiance`] — calibration (responsivity × area or a certificate factor) and the
 //!    [`Meter`](irradiance::Meter) that combines all configuration into constants.
 //! 6. [`dose`] — the [`Integrator`](dose::Integrator): integer sums, segment per range,

@@ -49,7 +49,7 @@
 //!   to out-of-band light of the assumed source shape), hence W/m² per ampere for a given
 //!   active area, and photons / mol of photons per joule of band energy.
 //! - [`weighted_fraction`]: weighted irradiance ÷ band irradiance for a
-//!   [`Weighting`](crate::weighting::Weighting).
+//!   [`Weighting`].
 //! - [`mismatch_factor`]: the spectral mismatch correction factor F* of CIE ILV 17-25-115 for a
 //!   detector calibrated under one source and used under another.
 

@@ -24,7 +24,7 @@
 //! # Read-outs: one integral, many units
 //!
 //! For a fixed source shape, band and weighting, the weighted irradiance is a constant times
-//! the band irradiance ([`weighted_fraction`](crate::spectrum::weighted_fraction)), so the
+//! the band irradiance ([`weighted_fraction`]), so the
 //! weighted exposure is the same constant times the radiant exposure the dose integrator
 //! already keeps. [`FactorSet`] holds those constants; [`WeightedIrradiance`] and
 //! [`WeightedExposure`] carry which weighting they are in, so a UV index can only be read from
@@ -626,10 +626,10 @@ pub struct WeightedFactor {
 
 impl WeightedFactor {
     /// Compute the factor (configuration time) with
-    /// [`weighted_fraction`](crate::spectrum::weighted_fraction).
+    /// [`weighted_fraction`].
     ///
     /// # Errors
-    /// As [`weighted_fraction`](crate::spectrum::weighted_fraction).
+    /// As [`weighted_fraction`].
     pub fn new(
         source: &Source<'_>,
         band: WavelengthRange,
