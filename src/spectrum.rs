@@ -286,6 +286,7 @@ impl<'a> SpectrumRef<'a> {
         if j == 0 {
             return None;
         }
+        // j ≥ 1 here, so j − 1 cannot underflow.
         let left = *self.points.get(j - 1)?;
         match self.points.get(j) {
             Some(&right) => Some((left, right)),
