@@ -97,6 +97,14 @@ impl BandFactors {
         }
     }
 
+    /// Factors from a photons-per-joule value computed elsewhere (for example from a
+    /// tabulated spectrum by [`SpectralFactors`](crate::spectrum::SpectralFactors)).
+    /// `None` unless the value is finite and > 0.
+    #[must_use]
+    pub fn from_photons_per_j(photons_per_j: f64) -> Option<Self> {
+        (photons_per_j.is_finite() && photons_per_j > 0.0).then_some(Self { photons_per_j })
+    }
+
     /// Photons per joule of radiant energy in this band, 1/J.
     #[must_use]
     pub const fn photons_per_j(&self) -> f64 {

@@ -144,8 +144,23 @@ impl Meter {
         tick_rate: TickRate,
         sample_area: Option<Area>,
     ) -> Result<Self, MeterError> {
-        let k = calibration.factor().map_err(MeterError::Calibration)?;
         let band = BandFactors::new(&band).map_err(MeterError::Band)?;
+        Self::with_band_factors(front_end, calibration, band, tick_rate, sample_area)
+    }
+
+    /// Join the stages with band factors computed elsewhere (a tabulated source through
+    /// [`SpectralFactors::band_factors`](crate::spectrum::SpectralFactors::band_factors)).
+    ///
+    /// # Errors
+    /// [`MeterError`] naming the invalid stage.
+    pub fn with_band_factors(
+        front_end: FrontEnd,
+        calibration: Calibration,
+        band: BandFactors,
+        tick_rate: TickRate,
+        sample_area: Option<Area>,
+    ) -> Result<Self, MeterError> {
+        let k = calibration.factor().map_err(MeterError::Calibration)?;
         if let Some(a) = sample_area {
             if !positive(a.m2()) {
                 return Err(MeterError::SampleArea);

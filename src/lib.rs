@@ -17,6 +17,9 @@
 //!  autorange   range choice with hysteresis, select pins            OutputPin
 //!  frontend    code → net code → volts → photocurrent; saturation
 //!  band        band shape → photons per joule (configuration time)
+//!  spectrum    tables, sources, detector → W/m² per A, mismatch F* (configuration time)
+//!  weighting   action spectra → weighted/erythemal/UVI factors (configuration time)
+//!  calibration calibration record: CRC-sealed flash format, expiry, temperature
 //!  irradiance  photocurrent → W/m²; Meter joins every stage
 //!  dose        exact integer trapezoid integral, thresholds
 //!  session     target, tolerance, enable/alarm outputs, phases
@@ -30,6 +33,13 @@
 //! 3. [`frontend`] — validated converter and amplifier description; net (dark-corrected)
 //!    code, saturation flags, volts and photocurrent.
 //! 4. [`band`] — a line or an LED-like band, reduced to photons per joule.
+//!    [`spectrum`] — fixed-capacity spectral tables, line / LED / tabulated sources, a
+//!    detector responsivity table; the configuration-time integrals (effective responsivity,
+//!    photons per joule, spectral mismatch factor). [`weighting`] — none, CIE erythema,
+//!    ICNIRP/IEC 62471 S(λ), UV-A, user tables; UV index, SED, t_max; the
+//!    [`FactorSet`](weighting::FactorSet) of constants for the read-out.
+//!    [`calibration`] — the calibration record, its CRC-32 flash encoding, expiry policy,
+//!    temperature compensation and transfer calibration.
 //! 5. [`irradiance`] — calibration (responsivity × area or a certificate factor) and the
 //!    [`Meter`](irradiance::Meter) that combines all configuration into constants.
 //! 6. [`dose`] — the [`Integrator`](dose::Integrator): integer sums, segment per range,
@@ -108,6 +118,7 @@
 
 pub mod autorange;
 pub mod band;
+pub mod calibration;
 pub mod dose;
 pub mod exposure;
 pub mod frontend;
@@ -116,6 +127,8 @@ pub mod plausibility;
 pub mod quantity;
 pub mod reading;
 pub mod session;
+pub mod spectrum;
+pub mod weighting;
 
 #[cfg(feature = "ads1x1x")]
 pub mod ads1x1x_adc;
@@ -135,5 +148,12 @@ pub mod prelude {
     pub use crate::reading::{FnAdc, PhotodiodeAdc, RangeIndex, Reading, TickRate, Ticks};
     pub use crate::session::{
         ActiveLevel, DoseAmount, Fault, Outcome, Phase, Progress, Session, SessionConfig,
+    };
+    pub use crate::spectrum::{
+        Detector, IntegrationRule, Source, SpectralFactors, Spectrum, SpectrumRef, WavelengthRange,
+    };
+    pub use crate::weighting::{
+        FactorSet, UvBand, UvBandEdges, UvIndex, WeightedExposure, WeightedIrradiance, Weighting,
+        WeightingKind,
     };
 }
