@@ -16,6 +16,7 @@ use photon_ledger::exposure::{
     ExposureConfig, ExposureMonitor, SamplingPlan, SolarMonitor, WeightFactor,
 };
 use photon_ledger::prelude::*;
+use photon_ledger::weighting::uv_hazard;
 
 const HZ: u32 = 1000;
 const S: u32 = HZ;
@@ -81,8 +82,9 @@ fn main() -> Result<(), String> {
     let uvc_meter = meter(1e-4, 254.0)?;
     let solar_meter = meter(1e-5, 300.0)?;
     let pins = [SimPin::new(), SimPin::new(), SimPin::new()];
-    // ICNIRP 2004, Table 1: S(254 nm) = 0.5.
-    let s254 = WeightFactor::from_ratio(0.5).ok_or("weight")?;
+    // The UV-C channel sees the 254 nm line only: its weight is S(254 nm) from the ICNIRP 2004
+    // table shipped in `weighting` (0.5).
+    let s254 = WeightFactor::from_ratio(uv_hazard(Wavelength::from_nm(254.0))).ok_or("weight")?;
     let config = ExposureConfig {
         window_ticks: 8 * HOUR,
         bucket_ticks: MIN,
@@ -183,7 +185,7 @@ fn main() -> Result<(), String> {
             println!("{}  |{:<16}|  |{:<16}|", clock(t), l1.as_str(), l2.as_str());
         }
         let uvc_now = hazard.effective_irradiance();
-        let sun_now = Irradiance::from_w_per_m2(solar.uv_index_now() / 40.0);
+        let sun_now = Irradiance::from_w_per_m2(solar.uv_index_now().value() / 40.0);
         let d = plan
             .next_delay(last_uvc, uvc_now)
             .min(plan.next_delay(last_sun, sun_now));

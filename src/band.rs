@@ -13,7 +13,8 @@
 //!   emission follows the band-gap energy distribution, so it is close to symmetric in energy
 //!   and therefore skewed towards long wavelengths in a wavelength plot. The energy width is
 //!   taken from the two half-maximum wavelengths `peak ± FWHM/2`. The integral is a trapezoid
-//!   rule on [`LED_GRID_POINTS`] equally spaced energies.
+//!   rule on [`LED_GRID_POINTS`] equally spaced energies, clipped to the supported wavelength
+//!   range 100–2500 nm.
 
 use crate::quantity::{si, PhotonEnergy, Wavelength};
 
@@ -147,8 +148,17 @@ fn led_mean_inverse_energy(peak: Wavelength, fwhm: Wavelength) -> f64 {
     let e_long = si::HC_J_M / (peak.m() + half);
     // FWHM = 2 √(2 ln 2) σ for a Gaussian.
     let sigma = (e_short - e_long) / (2.0 * libm::sqrt(2.0 * core::f64::consts::LN_2));
-    let lo = e0 - LED_TRUNCATION_SIGMA * sigma;
-    let step = 2.0 * LED_TRUNCATION_SIGMA * sigma / f64::from(LED_GRID_POINTS - 1);
+    // Truncate at ±6 σ, clipped to the supported wavelength range (so a very wide band never
+    // reaches zero or negative energies).
+    let lo = libm::fmax(
+        e0 - LED_TRUNCATION_SIGMA * sigma,
+        si::HC_J_M / (MAX_WAVELENGTH_NM * 1e-9),
+    );
+    let hi = libm::fmin(
+        e0 + LED_TRUNCATION_SIGMA * sigma,
+        si::HC_J_M / (MIN_WAVELENGTH_NM * 1e-9),
+    );
+    let step = (hi - lo) / f64::from(LED_GRID_POINTS - 1);
     let mut power = 0.0;
     let mut photons = 0.0;
     for i in 0..LED_GRID_POINTS {
@@ -222,6 +232,19 @@ mod tests {
         // The band gives more photons per joule than its peak alone.
         assert!(f.photons_per_j() > 1.0 / e0);
         assert!(f.equivalent_wavelength().nm() > 365.0);
+    }
+
+    #[test]
+    fn very_wide_led_stays_in_the_supported_range() {
+        // FWHM 200 nm at 400 nm: ±6σ would reach negative energies; clipped to 100–2500 nm
+        // the mean 1/E must lie between the clip limits' values.
+        let f = BandFactors::new(&Band::Led {
+            peak: Wavelength::from_nm(400.0),
+            fwhm: Wavelength::from_nm(200.0),
+        })
+        .unwrap();
+        let eq = f.equivalent_wavelength().nm();
+        assert!(eq.is_finite() && eq > 400.0 && eq < MAX_WAVELENGTH_NM, "{eq}");
     }
 
     #[test]

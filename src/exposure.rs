@@ -27,7 +27,7 @@
 //!   [`display`] formats short status lines for a character display without float formatting.
 //!
 //! Two rule sets for the UV-A eye limit exist and differ by a factor of about 29 for long
-//! exposures; they are offered separately ([`UvaEyeRule`]), never merged.
+//! exposures; they are offered separately ([`crate::weighting::UvaEyeRule`]), never merged.
 
 use embedded_hal::digital::OutputPin;
 
@@ -36,6 +36,7 @@ use crate::frontend::{CodeFault, MAX_RANGES};
 use crate::irradiance::Meter;
 use crate::quantity::{Irradiance, RadiantExposure, Seconds};
 use crate::reading::{RangeIndex, Reading, Ticks};
+use crate::weighting::{UvIndex, UvIndexCategory, WeightedFactor, SED_J_PER_M2};
 
 /// The integer quantum of effective radiant exposure in windows and totals: 1 µJ/m².
 pub const QUANTUM_J_PER_M2: f64 = 1e-6;
@@ -55,6 +56,12 @@ impl WeightFactor {
     #[must_use]
     pub fn from_ratio(ratio: f64) -> Option<Self> {
         (ratio.is_finite() && ratio > 0.0).then_some(Self(ratio))
+    }
+    /// The factor computed from the band and an action spectrum
+    /// ([`crate::weighting::WeightedFactor`]); `None` if its fraction is zero.
+    #[must_use]
+    pub fn from_weighted(factor: &WeightedFactor) -> Option<Self> {
+        Self::from_ratio(factor.fraction())
     }
     /// The ratio.
     #[must_use]
@@ -727,41 +734,6 @@ fn fixed_to_exposure(fixed: u128) -> RadiantExposure {
     RadiantExposure::from_j_per_m2(ceil_quanta(fixed) as f64 * QUANTUM_J_PER_M2)
 }
 
-/// WHO UV index exposure categories (Global Solar UV Index: A Practical Guide, 2002).
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub enum UviCategory {
-    /// 0–2.
-    Low,
-    /// 3–5.
-    Moderate,
-    /// 6–7.
-    High,
-    /// 8–10.
-    VeryHigh,
-    /// 11 and above.
-    Extreme,
-}
-
-impl UviCategory {
-    /// The category of an integer (rounded) UV index.
-    #[must_use]
-    pub const fn of(uvi: u16) -> Self {
-        match uvi {
-            0..=2 => Self::Low,
-            3..=5 => Self::Moderate,
-            6..=7 => Self::High,
-            8..=10 => Self::VeryHigh,
-            _ => Self::Extreme,
-        }
-    }
-}
-
-/// UV index weighting constant k_er, m²/W (WHO 2002).
-pub const UVI_PER_W_PER_M2: f64 = 40.0;
-/// One standard erythema dose, J/m² erythemally weighted (ISO/CIE 17166).
-pub const SED_J_PER_M2: f64 = 100.0;
-
 /// Solar UV: live UV index (averaged) and the day's erythemal dose in SED.
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -820,35 +792,31 @@ impl<const N: usize> SolarMonitor<N> {
     }
 
     /// UV index averaged over the configured period: the erythemal exposure of the last
-    /// complete buckets spanning the period ÷ its length × 40 m²/W. Before a full period has
+    /// complete buckets spanning the period ÷ its length, × 40 m²/W. Before a full period has
     /// passed this under-reads.
     #[must_use]
-    pub fn uv_index(&self) -> f64 {
+    pub fn uv_index(&self) -> UvIndex {
         let full_s = self.averaging_s;
-        if full_s <= 0.0 {
-            return 0.0;
-        }
-        UVI_PER_W_PER_M2 * self.average.complete_total().j_per_m2() / full_s
+        let mean = if full_s > 0.0 {
+            self.average.complete_total().j_per_m2() / full_s
+        } else {
+            0.0
+        };
+        UvIndex::from_erythemal_w_per_m2(mean)
     }
 
-    /// The UV index rounded to an integer as WHO reports it (half up), and its category.
+    /// The averaged UV index rounded to an integer as WHO reports it (half up), and its
+    /// category.
     #[must_use]
-    pub fn uv_index_reported(&self) -> (u16, UviCategory) {
-        let v = libm::floor(self.uv_index() + 0.5);
-        let u = if v <= 0.0 {
-            0
-        } else if v >= 65_535.0 {
-            u16::MAX
-        } else {
-            v as u16
-        };
-        (u, UviCategory::of(u))
+    pub fn uv_index_reported(&self) -> (u32, UvIndexCategory) {
+        let u = self.uv_index();
+        (u.rounded(), u.category())
     }
 
     /// Live UV index from the last reading alone (no averaging).
     #[must_use]
-    pub fn uv_index_now(&self) -> f64 {
-        UVI_PER_W_PER_M2 * self.accrual.effective_irradiance().w_per_m2()
+    pub fn uv_index_now(&self) -> UvIndex {
+        UvIndex::from_erythemal_w_per_m2(self.accrual.effective_irradiance().w_per_m2())
     }
 
     /// The day's erythemal exposure, in SED (100 J/m²).
@@ -861,39 +829,6 @@ impl<const N: usize> SolarMonitor<N> {
     pub fn reset_day(&mut self) {
         self.day = 0;
     }
-}
-
-/// UV-A limits for the eye (315–400 nm, unweighted). The two published forms differ and are
-/// kept apart.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub enum UvaEyeRule {
-    /// IEC 62471:2006 §4.3.2 (same values as ICNIRP 2004): for t ≤ 1000 s, H ≤ 10⁴ J/m²; for
-    /// t > 1000 s, E ≤ 10 W/m². Written as the allowance max(10⁴ J/m², 10 W/m² × t).
-    Iec62471,
-    /// Directive 2006/25/EC Annex I: H ≤ 10⁴ J/m² as a daily (8 h) value, whatever the
-    /// duration — about 29× stricter for long exposures.
-    EuDirective,
-}
-
-impl UvaEyeRule {
-    /// Allowed UV-A radiant exposure after an exposure lasting `duration`.
-    #[must_use]
-    pub fn allowance(self, duration: Seconds) -> RadiantExposure {
-        let dose = 1.0e4;
-        match self {
-            Self::Iec62471 => RadiantExposure::from_j_per_m2(libm::fmax(dose, 10.0 * duration.s())),
-            Self::EuDirective => RadiantExposure::from_j_per_m2(dose),
-        }
-    }
-}
-
-/// Maximum exposure time at a constant effective irradiance for a limit, t = H_limit / E_eff
-/// (IEC 62471 Eq. 4.2 with H_limit = 30 J/m²). `None` for E_eff ≤ 0 or not finite.
-#[must_use]
-pub fn max_exposure_time(limit: RadiantExposure, effective: Irradiance) -> Option<Seconds> {
-    let e = effective.w_per_m2();
-    (e.is_finite() && e > 0.0).then(|| Seconds::from_s(limit.j_per_m2() / e))
 }
 
 /// Duty-cycled sampling: a slow period while the light is steady, a fast one when it changes.
@@ -933,8 +868,8 @@ pub mod display {
 
     use heapless::String;
 
-    use super::UviCategory;
     use crate::quantity::Seconds;
+    use crate::weighting::UvIndexCategory;
 
     /// Width of a line, characters.
     pub const WIDTH: usize = 16;
@@ -985,14 +920,14 @@ pub mod display {
     /// `"UVI  7 HIGH 1.3S"`: reported UV index, category, day's dose in SED (one decimal,
     /// rounded up).
     #[must_use]
-    pub fn solar_line(uvi: u16, category: UviCategory, day_sed: f64) -> Line {
+    pub fn solar_line(uvi: u32, category: UvIndexCategory, day_sed: f64) -> Line {
         let mut s = Line::new();
         let cat = match category {
-            UviCategory::Low => "LOW",
-            UviCategory::Moderate => "MOD",
-            UviCategory::High => "HIGH",
-            UviCategory::VeryHigh => "VHI",
-            UviCategory::Extreme => "EXT",
+            UvIndexCategory::Low => "LOW",
+            UvIndexCategory::Moderate => "MOD",
+            UvIndexCategory::High => "HIGH",
+            UvIndexCategory::VeryHigh => "VHI",
+            UvIndexCategory::Extreme => "EXT",
         };
         let tenths = libm::ceil(day_sed * 10.0);
         let tenths = if tenths <= 0.0 {
@@ -1002,6 +937,7 @@ pub mod display {
         } else {
             tenths as u32
         };
+        let uvi = uvi.min(99);
         let _ = write!(s, "UVI{uvi:>3} {cat:<4}{}.{}S", tenths / 10, tenths % 10);
         s
     }

@@ -7,7 +7,7 @@
 //!
 //! Adapters:
 //! - [`FnAdc`] wraps any closure (an on-chip ADC read in a HAL, a DMA buffer, a test double);
-//! - [`crate::ads1x1x_adc::Ads1x1xAdc`] (feature `ads1x1x`) wraps the maintained
+//! - `ads1x1x_adc::Ads1x1xAdc` (feature `ads1x1x`) wraps the maintained
 //!   [`ads1x1x`](https://docs.rs/ads1x1x) I²C driver.
 //!
 //! Every sample carries its own timestamp: an ADC's nominal data rate can be 10 % off, so

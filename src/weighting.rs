@@ -512,6 +512,21 @@ pub enum UvaEyeRule {
     Directive2006,
 }
 
+impl UvaEyeRule {
+    /// Allowed UV-A radiant exposure (315–400 nm, unweighted) after an exposure lasting
+    /// `duration`: IEC 62471 as max(10⁴ J/m², 10 W/m² × t) (continuous at 1000 s); the
+    /// Directive a flat 10⁴ J/m² per 8 h.
+    #[must_use]
+    pub fn allowance(self, duration: Seconds) -> RadiantExposure {
+        match self {
+            Self::Iec62471 => {
+                RadiantExposure::from_j_per_m2(libm::fmax(1.0e4, 10.0 * duration.s()))
+            }
+            Self::Directive2006 => RadiantExposure::from_j_per_m2(1.0e4),
+        }
+    }
+}
+
 /// Maximum exposure time under a UV-A eye rule for an unweighted UV-A irradiance
 /// (315–400 nm). Zero, negative or NaN irradiance is unlimited.
 #[must_use]

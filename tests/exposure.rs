@@ -7,10 +7,13 @@ use embedded_hal_mock::eh1::digital::{Mock as PinMock, State, Transaction as Pin
 use hosttests::sim::SimPin;
 use photon_ledger::exposure::display::{dose_line, solar_line};
 use photon_ledger::exposure::{
-    max_exposure_time, ExposureConfig, ExposureConfigError, ExposureMonitor, ReadingIssue,
-    RollingWindow, SolarMonitor, UvaEyeRule, UviCategory, WeightFactor,
+    ExposureConfig, ExposureConfigError, ExposureMonitor, ReadingIssue, RollingWindow,
+    SolarMonitor, WeightFactor,
 };
 use photon_ledger::prelude::*;
+use photon_ledger::weighting::{
+    TimeLimit, UvIndexCategory, UvaEyeRule, WeightedIrradiance, WeightingKind,
+};
 
 const S: u32 = 1000; // ticks per second of the common meter
 const MIN: u32 = 60 * S;
@@ -45,13 +48,11 @@ fn monitor() -> (Monitor, [SimPin; 3]) {
 fn permissible_time_at_254_nm() {
     // 0.1 W/m² at 254 nm: E_eff = 0.5 × 0.1 = 0.05 W/m² (ICNIRP 2004 S(254) = 0.5);
     // t_max = 30 / E_eff = 600 s (IEC 62471:2006 Eq. 4.2).
-    let t = max_exposure_time(
-        RadiantExposure::from_j_per_m2(30.0),
-        Irradiance::from_w_per_m2(0.05),
-    )
-    .unwrap();
+    let t = WeightedIrradiance::from_w_per_m2(0.05, WeightingKind::UvHazard).max_exposure_time();
+    let Some(TimeLimit::Within(t)) = t else {
+        panic!("expected a time limit, got {t:?}");
+    };
     assert!((t.s() - 600.0).abs() < 1e-12);
-    assert!(max_exposure_time(RadiantExposure::from_j_per_m2(30.0), Irradiance::ZERO).is_none());
 
     let (mut m, pins) = monitor();
     m.on_reading(&reading(100, 0)).unwrap(); // 100 codes = 0.1 W/m²
@@ -279,12 +280,12 @@ fn uv_index_and_sed() {
         solar.accept(200, RangeIndex(0), Ticks(k * S)).unwrap();
     }
     assert!(
-        (solar.uv_index() - 8.0).abs() < 1e-3,
-        "{}",
+        (solar.uv_index().value() - 8.0).abs() < 1e-3,
+        "{:?}",
         solar.uv_index()
     );
-    assert_eq!(solar.uv_index_reported(), (8, UviCategory::VeryHigh));
-    assert!((solar.uv_index_now() - 8.0).abs() < 1e-12);
+    assert_eq!(solar.uv_index_reported(), (8, UvIndexCategory::VeryHigh));
+    assert!((solar.uv_index_now().value() - 8.0).abs() < 1e-12);
 
     // E_er = 75 mW/m² → UVI 3 (SMHI units page), "moderate"; 1 h at UVI 1 (25 mW/m²) is
     // 90 J/m² = 0.9 SED (McKenzie, "scaling UV damage"; 1 SED = 100 J/m², ISO/CIE 17166).
@@ -292,30 +293,10 @@ fn uv_index_and_sed() {
     for k in 0..=3600 {
         solar.accept(75, RangeIndex(0), Ticks(k * S)).unwrap();
     }
-    assert_eq!(solar.uv_index_reported(), (3, UviCategory::Moderate));
+    assert_eq!(solar.uv_index_reported(), (3, UvIndexCategory::Moderate));
     assert!((solar.day_sed() - 3.0 * 0.9).abs() < 1e-6);
     solar.reset_day();
     assert_eq!(solar.day_sed(), 0.0);
-}
-
-#[test]
-fn who_categories_on_rounded_integers() {
-    // WHO 2002 categories: 0–2 low, 3–5 moderate, 6–7 high, 8–10 very high, 11+ extreme.
-    let expect = [
-        (0, UviCategory::Low),
-        (2, UviCategory::Low),
-        (3, UviCategory::Moderate),
-        (5, UviCategory::Moderate),
-        (6, UviCategory::High),
-        (7, UviCategory::High),
-        (8, UviCategory::VeryHigh),
-        (10, UviCategory::VeryHigh),
-        (11, UviCategory::Extreme),
-        (15, UviCategory::Extreme),
-    ];
-    for (u, c) in expect {
-        assert_eq!(UviCategory::of(u), c, "{u}");
-    }
 }
 
 #[test]
@@ -323,7 +304,7 @@ fn uva_eye_rule_sets_stay_apart() {
     // IEC 62471:2006 §4.3.2: 10⁴ J/m² for t ≤ 1000 s, then 10 W/m²; Directive 2006/25/EC:
     // 10⁴ J/m² per 8 h. Continuous at 1000 s; 28.8× apart at 8 h (reference-values D7).
     let iec = UvaEyeRule::Iec62471;
-    let eu = UvaEyeRule::EuDirective;
+    let eu = UvaEyeRule::Directive2006;
     assert_eq!(iec.allowance(Seconds::from_s(500.0)).j_per_m2(), 1e4);
     assert_eq!(iec.allowance(Seconds::from_s(1000.0)).j_per_m2(), 1e4);
     assert_eq!(iec.allowance(Seconds::from_s(3600.0)).j_per_m2(), 36_000.0);
@@ -354,16 +335,16 @@ fn display_lines_fit_and_read_right() {
         "DOSE  50% 2m05s"
     );
     assert_eq!(
-        solar_line(7, UviCategory::High, 1.23).as_str(),
+        solar_line(7, UvIndexCategory::High, 1.23).as_str(),
         "UVI  7 HIGH1.3S"
     );
     assert_eq!(
-        solar_line(11, UviCategory::Extreme, 0.0).as_str(),
+        solar_line(11, UvIndexCategory::Extreme, 0.0).as_str(),
         "UVI 11 EXT 0.0S"
     );
     for l in [
         dose_line(9.99, Some(Seconds::from_s(1e9))),
-        solar_line(u16::MAX, UviCategory::Extreme, 1e9),
+        solar_line(u32::MAX, UvIndexCategory::Extreme, 1e9),
     ] {
         assert!(l.len() <= 16);
     }
