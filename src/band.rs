@@ -244,7 +244,10 @@ mod tests {
         })
         .unwrap();
         let eq = f.equivalent_wavelength().nm();
-        assert!(eq.is_finite() && eq > 400.0 && eq < MAX_WAVELENGTH_NM, "{eq}");
+        assert!(
+            eq.is_finite() && eq > 400.0 && eq < MAX_WAVELENGTH_NM,
+            "{eq}"
+        );
     }
 
     #[test]
