@@ -1,1 +1,2 @@
 //! Host-side simulation models for photon-ledger.
+pub mod lamp_curing;
