@@ -19,6 +19,7 @@ use std::convert::Infallible;
 use std::rc::Rc;
 
 use embedded_hal::digital::{ErrorType, InputPin, OutputPin};
+use photon_ledger::curing::{CuringConfigError, CuringError};
 use photon_ledger::prelude::*;
 
 /// An LED array seen from the part: irradiance vs thermal state and age.
@@ -61,12 +62,14 @@ impl LedArray {
 
     /// Advance the thermal state by `dt_s` with the LED on or off (exact first-order step).
     pub fn step(&mut self, on: bool, dt_s: f64) {
-        let (goal, tau) = if on {
-            (1.0, self.heat_tau_s)
-        } else {
-            (0.0, self.cool_tau_s)
-        };
-        self.thermal = goal + (self.thermal - goal) * (-dt_s / tau).exp();
+        let tau = if on { self.heat_tau_s } else { self.cool_tau_s };
+        self.step_with(on, (-dt_s / tau).exp());
+    }
+
+    /// As [`step`](Self::step) with the decay factor `exp(−dt/τ)` already computed.
+    fn step_with(&mut self, on: bool, decay: f64) {
+        let goal = if on { 1.0 } else { 0.0 };
+        self.thermal = goal + (self.thermal - goal) * decay;
     }
 }
 
@@ -258,6 +261,8 @@ pub struct Station {
     now_s: f64,
     true_dose_j_per_m2: f64,
     irradiance_w_per_m2: f64,
+    /// (half step, decay on, decay off) for the usual step, to avoid `exp` per step.
+    decay_cache: (f64, f64, f64),
 }
 
 impl Station {
@@ -274,7 +279,24 @@ impl Station {
             now_s: 0.0,
             true_dose_j_per_m2: 0.0,
             irradiance_w_per_m2: 0.0,
+            decay_cache: (f64::NAN, 1.0, 1.0),
         }
+    }
+
+    fn led_step(&mut self, on: bool, dt: f64) {
+        if dt != self.decay_cache.0 {
+            self.decay_cache = (
+                dt,
+                (-dt / self.led.heat_tau_s).exp(),
+                (-dt / self.led.cool_tau_s).exp(),
+            );
+        }
+        let decay = if on {
+            self.decay_cache.1
+        } else {
+            self.decay_cache.2
+        };
+        self.led.step_with(on, decay);
     }
 
     /// Command the light (enable output AND hardware interlock closed). Switching on is
@@ -310,10 +332,10 @@ impl Station {
             let powered = self.light_cmd || self.transmission() > 0.0;
             let half = dt * 0.5;
             self.since_off_s += half;
-            self.led.step(powered, half);
+            self.led_step(powered, half);
             let e = self.irradiance_now();
             self.since_off_s += half;
-            self.led.step(powered, half);
+            self.led_step(powered, half);
             self.true_dose_j_per_m2 += e * dt;
             self.now_s += dt;
         }
@@ -342,6 +364,353 @@ impl Station {
     pub fn now_s(&self) -> f64 {
         self.now_s
     }
+}
+
+/// A door (guard) opening during a part, times in seconds after the start command.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct DoorOpening {
+    /// The door opens (the hardware interlock cuts the light through the actuator).
+    pub open_s: f64,
+    /// The door closes (nothing restarts by itself).
+    pub close_s: f64,
+    /// The operator presses "resume".
+    pub resume_s: f64,
+}
+
+/// How [`run_part`] drives the controller.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct RunOptions {
+    /// Ticks between readings.
+    pub sample_ticks: u32,
+    /// Arm a timer compare at `stop_due()` between readings.
+    pub use_timer: bool,
+    /// A door opening, if any.
+    pub door: Option<DoorOpening>,
+    /// Keep sampling this long after the off command before finishing, s.
+    pub settle_s: f64,
+    /// Give up (finish) after this long, s.
+    pub max_s: f64,
+}
+
+impl Default for RunOptions {
+    fn default() -> Self {
+        Self {
+            sample_ticks: 10,
+            use_timer: false,
+            door: None,
+            settle_s: 0.1,
+            max_s: 600.0,
+        }
+    }
+}
+
+/// What one simulated part gave.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct RunResult {
+    /// The controller's record.
+    pub record: PartRecord,
+    /// True radiant exposure at the part (simulation), up to the finish.
+    pub true_dose: RadiantExposure,
+    /// Readings fed to the controller.
+    pub readings: u32,
+    /// Tick (64-bit, not wrapped) at which the part was finished.
+    pub end_tick: u64,
+    /// The controller's irradiance (last reading) when the light was commanded off.
+    pub stop_irradiance: Irradiance,
+}
+
+/// The controller type used with the simulated pins.
+pub type SimController = CuringController<SimOutput, SimOutput, SimInput>;
+
+/// Simulated pins and their shared levels.
+#[derive(Debug, Clone, Default)]
+pub struct SimPins {
+    /// Enable output level (high = active).
+    pub enable: Level,
+    /// Alarm output level (high = active).
+    pub alarm: Level,
+    /// Door switch level (high = closed).
+    pub door: Level,
+}
+
+impl SimPins {
+    /// Fresh pins with the door closed.
+    #[must_use]
+    pub fn new() -> Self {
+        let p = Self::default();
+        p.door.set(true);
+        p
+    }
+
+    /// Build a controller on these pins (active-high outputs, door closed = high).
+    ///
+    /// # Errors
+    /// The controller's configuration error.
+    pub fn controller(
+        &self,
+        meter: Meter,
+        mut config: CuringConfig,
+    ) -> Result<SimController, CuringConfigError> {
+        config.enable_level = ActiveLevel::High;
+        config.alarm_level = ActiveLevel::High;
+        config.interlock_closed_level = ActiveLevel::High;
+        CuringController::new(
+            meter,
+            config,
+            SimOutput(self.enable.clone()),
+            SimOutput(self.alarm.clone()),
+            SimInput(self.door.clone()),
+        )
+        .map_err(|e| match e {
+            CuringError::Config(c) => c,
+            CuringError::Output(never) | CuringError::Interlock(never) => match never {},
+            // `new` refuses nothing; keep the mapping total.
+            CuringError::Refused(_) => CuringConfigError::Target,
+        })
+    }
+}
+
+fn ticks(t: u64) -> Ticks {
+    // The controller's counter is a wrapping u32.
+    Ticks(t as u32)
+}
+
+/// Run one part from `start_tick` on the simulated station: start, readings every
+/// `sample_ticks`, optional timer stop and door opening, until the light is off (or a fault)
+/// plus `settle_s`, then finish. The true dose starts from zero at the start.
+///
+/// # Panics
+/// If the controller refuses to start (the caller sets up a startable controller).
+pub fn run_part(
+    c: &mut SimController,
+    pins: &SimPins,
+    station: &mut Station,
+    pd: &mut Photodiode,
+    part: PartId,
+    start_tick: u64,
+    opts: &RunOptions,
+) -> RunResult {
+    let hz = f64::from(c.meter().tick_rate().hz());
+    let to_s = |t: u64| t as f64 / hz;
+    station.advance_to(to_s(start_tick));
+    station.reset_dose();
+    c.start(part, ticks(start_tick)).expect("part starts");
+    let apply = |station: &mut Station| station.command(pins.enable.get() && pins.door.get());
+    apply(station);
+    let mut t = start_tick;
+    let mut readings = 0u32;
+    let mut off_at: Option<u64> = None;
+    let mut resumed = false;
+    let mut stop_irradiance = Irradiance::ZERO;
+    let mut was_exposing = true;
+    loop {
+        let next = t + u64::from(opts.sample_ticks);
+        if opts.use_timer && c.phase() == CuringPhase::Exposing {
+            if let Some(due) = c.stop_due() {
+                let due_abs = t + u64::from(due.wrapping_since(ticks(t)));
+                if due_abs < next {
+                    station.advance_to(to_s(due_abs));
+                    let e = c.irradiance();
+                    c.on_stop_timer(ticks(due_abs)).expect("sim pins never fail");
+                    if c.phase() != CuringPhase::Exposing {
+                        stop_irradiance = e;
+                        was_exposing = false;
+                    }
+                    apply(station);
+                }
+            }
+        }
+        // Door edges inside this interval, at their own instants.
+        if let Some(d) = opts.door {
+            for edge_s in [d.open_s, d.close_s] {
+                let edge = start_tick + (edge_s * hz).round() as u64;
+                if edge > t && edge <= next {
+                    station.advance_to(to_s(edge));
+                    pins.door.set(edge_s == d.close_s);
+                    apply(station);
+                }
+            }
+        }
+        t = next;
+        station.advance_to(to_s(t));
+        let reading = Reading {
+            code: pd.code(station.irradiance().w_per_m2()),
+            range: RangeIndex(0),
+            at: ticks(t),
+        };
+        c.on_reading(&reading).expect("sim pins never fail");
+        readings += 1;
+        if was_exposing && !matches!(c.phase(), CuringPhase::Exposing | CuringPhase::Paused) {
+            stop_irradiance = c.irradiance();
+            was_exposing = false;
+        }
+        apply(station);
+        if let Some(d) = opts.door {
+            let resume = start_tick + (d.resume_s * hz).round() as u64;
+            if !resumed && t >= resume && c.phase() == CuringPhase::Paused {
+                c.resume(ticks(t)).expect("resume after the door closed");
+                resumed = true;
+                apply(station);
+            }
+        }
+        let done = matches!(c.phase(), CuringPhase::Complete | CuringPhase::Faulted(_));
+        if done && off_at.is_none() {
+            off_at = Some(t);
+        }
+        if let Some(o) = off_at {
+            if to_s(t - o) >= opts.settle_s {
+                break;
+            }
+        }
+        if to_s(t - start_tick) > opts.max_s {
+            break;
+        }
+    }
+    let record = c.finish(ticks(t)).expect("sim pins never fail");
+    apply(station);
+    RunResult {
+        record,
+        true_dose: station.true_dose(),
+        readings,
+        end_tick: t,
+        stop_irradiance,
+    }
+}
+
+/// Tick rate of the sweep (10 µs ticks).
+pub const SWEEP_TICK_HZ: u32 = 100_000;
+
+/// Target of the sweep: 1000 mJ/cm² (reference-values §8 worked-example value).
+pub const SWEEP_TARGET_MJ_PER_CM2: f64 = 1000.0;
+
+/// How the sweep stops the part.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SweepStop {
+    /// No anticipation: stop when the measured dose reaches the target.
+    AtTarget,
+    /// Anticipated stop, decided on a reading.
+    Anticipate,
+    /// Anticipated stop on a timer compare at `stop_due()`.
+    AnticipateTimer,
+}
+
+/// One case of the overshoot sweep.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SweepCase {
+    /// Cold irradiance of the LED at the part.
+    pub irradiance: Irradiance,
+    /// Actuator dead time (configured = simulated), s.
+    pub lag_s: f64,
+    /// Reading rate, Hz (must divide [`SWEEP_TICK_HZ`]).
+    pub sample_hz: u32,
+    /// Stop mode.
+    pub stop: SweepStop,
+}
+
+/// Result of one sweep case.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SweepRow {
+    /// The case.
+    pub case: SweepCase,
+    /// The run.
+    pub run: RunResult,
+    /// True dose − target, mJ/cm².
+    pub error_mj_per_cm2: f64,
+    /// Allowed |error| with anticipation: max(0.5 % of target, one reading's dose increment
+    /// at the peak irradiance), mJ/cm².
+    pub bound_mj_per_cm2: f64,
+    /// Irradiance at the stop × lag, mJ/cm² (the expected overshoot without anticipation).
+    pub e_lag_mj_per_cm2: f64,
+    /// One reading's dose increment at the peak irradiance, mJ/cm².
+    pub increment_mj_per_cm2: f64,
+}
+
+/// The curing configuration of the sweep for a lag and reading interval (ticks of
+/// [`SWEEP_TICK_HZ`]).
+#[must_use]
+pub fn sweep_config(lag_ticks: u32, sample_ticks: u32, policy: StopPolicy) -> CuringConfig {
+    CuringConfig {
+        target: RadiantExposure::from_mj_per_cm2(SWEEP_TARGET_MJ_PER_CM2),
+        // Wide enough that the runs without anticipation are measured, not alarmed.
+        tolerance: RadiantExposure::from_mj_per_cm2(50.0),
+        lag: ActuatorLag::Delay { ticks: lag_ticks },
+        stop_policy: policy,
+        window: IrradianceWindow::default(),
+        light_off: LightOffCheck {
+            fraction: 0.05,
+            floor: Irradiance::from_mw_per_cm2(0.05),
+            margin_ticks: SWEEP_TICK_HZ / 50,
+        },
+        lamp: None,
+        max_gap_ticks: sample_ticks.saturating_mul(2),
+        max_unusable_run: 0,
+        enable_level: ActiveLevel::High,
+        alarm_level: ActiveLevel::High,
+        interlock_closed_level: ActiveLevel::High,
+    }
+}
+
+/// Run one sweep case on a fresh, cold LED (10 % droop) with a shutter of the configured lag.
+///
+/// # Panics
+/// On an invalid case (a rate that does not divide the tick rate).
+#[must_use]
+pub fn run_sweep_case(case: SweepCase) -> SweepRow {
+    assert_eq!(SWEEP_TICK_HZ % case.sample_hz, 0, "rate must divide the tick rate");
+    let sample_ticks = SWEEP_TICK_HZ / case.sample_hz;
+    let lag_ticks = (case.lag_s * f64::from(SWEEP_TICK_HZ)).round() as u32;
+    let policy = match case.stop {
+        SweepStop::AtTarget => StopPolicy::AtTarget,
+        SweepStop::Anticipate | SweepStop::AnticipateTimer => StopPolicy::Anticipate,
+    };
+    let meter = demo_meter(SWEEP_TICK_HZ);
+    let pins = SimPins::new();
+    let mut pd = Photodiode::new(&meter, DEMO_DARK, 65_535, 0);
+    let mut c = pins
+        .controller(meter, sweep_config(lag_ticks, sample_ticks, policy))
+        .expect("valid sweep configuration");
+    let mut station = Station::new(
+        LedArray::new(case.irradiance, 0.10),
+        Actuator::Delay { s: case.lag_s },
+    );
+    let opts = RunOptions {
+        sample_ticks,
+        use_timer: case.stop == SweepStop::AnticipateTimer,
+        settle_s: case.lag_s + 0.05,
+        ..RunOptions::default()
+    };
+    let run = run_part(&mut c, &pins, &mut station, &mut pd, PartId(1), 0, &opts);
+    let target = SWEEP_TARGET_MJ_PER_CM2;
+    let dt_s = 1.0 / f64::from(case.sample_hz);
+    let peak = run.record.peak.map_or(0.0, |e| e.mw_per_cm2());
+    let increment = peak * dt_s;
+    SweepRow {
+        case,
+        run,
+        error_mj_per_cm2: run.true_dose.mj_per_cm2() - target,
+        bound_mj_per_cm2: (0.005 * target).max(increment),
+        e_lag_mj_per_cm2: run.stop_irradiance.mw_per_cm2() * case.lag_s,
+        increment_mj_per_cm2: increment,
+    }
+}
+
+/// The sweep grid: irradiance 20–200 mW/cm² (10×), lag 1–50 ms, reading rate 100 Hz–10 kHz.
+#[must_use]
+pub fn sweep_grid(stop: SweepStop) -> Vec<SweepCase> {
+    let mut v = Vec::new();
+    for e in [20.0, 63.0, 200.0] {
+        for lag_ms in [1.0, 10.0, 50.0] {
+            for hz in [100, 1000, 10_000] {
+                v.push(SweepCase {
+                    irradiance: Irradiance::from_mw_per_cm2(e),
+                    lag_s: lag_ms * 1e-3,
+                    sample_hz: hz,
+                    stop,
+                });
+            }
+        }
+    }
+    v
 }
 
 #[cfg(test)]
