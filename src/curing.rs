@@ -1811,8 +1811,10 @@ where
         let r = set(&mut self.enable, self.config.enable_level, active);
         if r.is_err() {
             self.mark_output_fault();
-            // Best effort: try inactive once more (a transient error on an expander).
+            // Best effort: try inactive once more (a transient error on an expander), and
+            // raise the alarm.
             let _ = set(&mut self.enable, self.config.enable_level, false);
+            let _ = set(&mut self.alarm, self.config.alarm_level, true);
         }
         r.map_err(CuringError::Output)
     }
