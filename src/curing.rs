@@ -2101,7 +2101,10 @@ mod tests {
             after_ticks,
             remaining,
         };
-        assert_eq!(FallProfile::new(&[]), Err(CuringConfigError::FallProfileEmpty));
+        assert_eq!(
+            FallProfile::new(&[]),
+            Err(CuringConfigError::FallProfileEmpty)
+        );
         assert_eq!(
             FallProfile::new(&[pt(0, 0.0)]),
             Err(CuringConfigError::FallPoint(0))
@@ -2272,7 +2275,9 @@ mod tests {
         assert!((rec.after_stop.j_per_m2() - 205.0).abs() < 1e-6);
         assert!((rec.overshoot.j_per_m2() - 10.0).abs() < 1e-6);
         assert!(rec.fault.is_none());
-        assert!(rec.seen.contains(Events::TARGET_REACHED | Events::STOP_ISSUED));
+        assert!(rec
+            .seen
+            .contains(Events::TARGET_REACHED | Events::STOP_ISSUED));
         assert_eq!(r.c.phase(), CuringPhase::Idle);
         assert!(!r.alarm.high.get());
     }
@@ -2305,7 +2310,10 @@ mod tests {
             TimerOutcome::Rearm(Ticks(9806))
         );
         assert_eq!(r.c.phase(), CuringPhase::Exposing);
-        assert_eq!(r.c.on_stop_timer(Ticks(9806)).unwrap(), TimerOutcome::Stopped);
+        assert_eq!(
+            r.c.on_stop_timer(Ticks(9806)).unwrap(),
+            TimerOutcome::Stopped
+        );
         assert_eq!(r.c.phase(), CuringPhase::Stopping);
         assert!(!r.enable.high.get());
         assert_eq!(r.c.stop_due(), None);
@@ -2378,7 +2386,10 @@ mod tests {
         assert!(!r.enable.high.get());
         assert!(r.alarm.high.get());
         let rec = r.c.finish(Ticks(2110)).unwrap();
-        assert_eq!(rec.stop_reason, StopReason::Fault(CuringFault::IrradianceLow));
+        assert_eq!(
+            rec.stop_reason,
+            StopReason::Fault(CuringFault::IrradianceLow)
+        );
         assert_eq!(rec.faults, 1);
         // Peak counts the whole exposure, min only after the warm-up.
         assert_eq!(rec.peak.map(|e| e.w_per_m2()), Some(1000.0));
@@ -2486,10 +2497,7 @@ mod tests {
         assert!((rec.delivered.j_per_m2() - 10_195.0).abs() < 1e-6);
         assert!((rec.after_stop.j_per_m2() - 390.0).abs() < 1e-6);
         // The alarm stays latched: no new part until acknowledged.
-        assert_eq!(
-            r.c.phase(),
-            CuringPhase::Faulted(CuringFault::LightNotOff)
-        );
+        assert_eq!(r.c.phase(), CuringPhase::Faulted(CuringFault::LightNotOff));
         assert_eq!(
             r.c.start(PartId(9), Ticks(20_000)),
             Err(CuringError::Refused(Refusal::AlarmLatched))

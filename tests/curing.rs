@@ -8,9 +8,7 @@ use embedded_hal_mock::eh1::MockError;
 use hosttests::lamp_curing::{
     demo_meter, run_part, Actuator, LedArray, Photodiode, RunOptions, SimPins, Station, DEMO_DARK,
 };
-use photon_ledger::curing::{
-    CuringError, Refusal, SampleUse, TimerOutcome,
-};
+use photon_ledger::curing::{CuringError, Refusal, SampleUse, TimerOutcome};
 use photon_ledger::prelude::*;
 
 /// 1 W/m² (0.1 mW/cm²) per code, 1000 ticks per second: 16-bit unipolar ADC with a 65.536 V
@@ -156,7 +154,11 @@ fn worked_example_on_the_timer_compare_stops_at_the_due_tick() {
     interlock.extend(gets(readings, State::High));
     let (mut c, mut en, mut al, mut il) = mocked(
         0,
-        &[Pin::set(State::Low), Pin::set(State::High), Pin::set(State::Low)],
+        &[
+            Pin::set(State::Low),
+            Pin::set(State::High),
+            Pin::set(State::Low),
+        ],
         &[Pin::set(State::Low)],
         &interlock,
     );
@@ -170,7 +172,10 @@ fn worked_example_on_the_timer_compare_stops_at_the_due_tick() {
         c.on_stop_timer(Ticks(10_005)).unwrap(),
         TimerOutcome::Rearm(Ticks(10_006))
     );
-    assert_eq!(c.on_stop_timer(Ticks(10_006)).unwrap(), TimerOutcome::Stopped);
+    assert_eq!(
+        c.on_stop_timer(Ticks(10_006)).unwrap(),
+        TimerOutcome::Stopped
+    );
     // The light went off at 10.006 s; the next reading is dark.
     c.on_reading(&reading(10_010, 0)).unwrap();
     let rec = c.finish(Ticks(10_010)).unwrap();
@@ -216,7 +221,9 @@ fn guard_opened_mid_run_pauses_counts_the_light_and_waits_for_resume() {
     let mut events = Events::NONE;
     for t in (10..=last).step_by(10) {
         let on = off_since.is_none_or(|o| t < o + 20);
-        let u = c.on_reading(&reading(t, if on { 1000 } else { 0 })).unwrap();
+        let u = c
+            .on_reading(&reading(t, if on { 1000 } else { 0 }))
+            .unwrap();
         events |= u.events;
         if !c.phase().is_exposing() && off_since.is_none() {
             off_since = Some(t);
@@ -262,9 +269,8 @@ fn guard_opened_mid_run_pauses_counts_the_light_and_waits_for_resume() {
 fn injected_interlock_pin_error_drives_the_safe_state() {
     let mut interlock = vec![Pin::get(State::High)];
     interlock.extend(gets(10, State::High));
-    interlock.push(
-        Pin::get(State::High).with_error(MockError::Io(std::io::ErrorKind::NotConnected)),
-    );
+    interlock
+        .push(Pin::get(State::High).with_error(MockError::Io(std::io::ErrorKind::NotConnected)));
     let (mut c, mut en, mut al, mut il) = mocked(
         20,
         &[
@@ -385,7 +391,11 @@ fn sim_config(policy: StopPolicy) -> CuringConfig {
     }
 }
 
-fn run_sim(e_cold_mw: f64, policy: StopPolicy, actuator: Actuator) -> hosttests::lamp_curing::RunResult {
+fn run_sim(
+    e_cold_mw: f64,
+    policy: StopPolicy,
+    actuator: Actuator,
+) -> hosttests::lamp_curing::RunResult {
     let meter = demo_meter(SIM_HZ);
     let pins = SimPins::new();
     let mut pd = Photodiode::new(&meter, DEMO_DARK, 65_535, 0);
@@ -410,7 +420,10 @@ fn droop_led_with_lag_anticipation_lands_within_tolerance() {
         let run = run_sim(e, StopPolicy::Anticipate, act);
         let err = run.true_dose.mj_per_cm2() - 1000.0;
         // Within the configured ±5 mJ/cm² tolerance (0.5 %).
-        assert!(err.abs() <= 5.0, "{e} mW/cm²: true dose off by {err} mJ/cm²");
+        assert!(
+            err.abs() <= 5.0,
+            "{e} mW/cm²: true dose off by {err} mJ/cm²"
+        );
         assert!(!run.record.seen.contains(Events::OVEREXPOSED));
         // The LED drooped: the mean is below the cold value.
         assert!(run.record.mean.unwrap().mw_per_cm2() < e);
@@ -484,12 +497,23 @@ fn ageing_lamp_warns_when_the_ratio_falls_below_the_fraction() {
         // Cool down between parts (30 s).
         station.advance_to(t as f64 / f64::from(SIM_HZ));
         station.led.thermal = 0.0;
-        let run = run_part(&mut c, &pins, &mut station, &mut pd, PartId(i as u32), t, &opts);
+        let run = run_part(
+            &mut c,
+            &pins,
+            &mut station,
+            &mut pd,
+            PartId(i as u32),
+            t,
+            &opts,
+        );
         let ratio = run.record.lamp_ratio.unwrap();
         // Same process, cold start: the ratio follows the ageing factor.
         // An aged head needs longer, so it droops a little more: the ratio is at most the
         // ageing factor and within 3 % of it.
-        assert!(ratio <= age + 1e-3 && ratio > age - 0.03, "age {age}: ratio {ratio}");
+        assert!(
+            ratio <= age + 1e-3 && ratio > age - 0.03,
+            "age {age}: ratio {ratio}"
+        );
         flagged.push(run.record.seen.contains(Events::LAMP_LOW));
         t = run.end_tick + 300_000;
     }

@@ -511,7 +511,8 @@ pub fn run_part(
                 if due_abs < next {
                     station.advance_to(to_s(due_abs));
                     let e = c.irradiance();
-                    c.on_stop_timer(ticks(due_abs)).expect("sim pins never fail");
+                    c.on_stop_timer(ticks(due_abs))
+                        .expect("sim pins never fail");
                     if c.phase() != CuringPhase::Exposing {
                         stop_irradiance = e;
                         was_exposing = false;
@@ -656,7 +657,11 @@ pub fn sweep_config(lag_ticks: u32, sample_ticks: u32, policy: StopPolicy) -> Cu
 /// On an invalid case (a rate that does not divide the tick rate).
 #[must_use]
 pub fn run_sweep_case(case: SweepCase) -> SweepRow {
-    assert_eq!(SWEEP_TICK_HZ % case.sample_hz, 0, "rate must divide the tick rate");
+    assert_eq!(
+        SWEEP_TICK_HZ % case.sample_hz,
+        0,
+        "rate must divide the tick rate"
+    );
     let sample_ticks = SWEEP_TICK_HZ / case.sample_hz;
     let lag_ticks = (case.lag_s * f64::from(SWEEP_TICK_HZ)).round() as u32;
     let policy = match case.stop {

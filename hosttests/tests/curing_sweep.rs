@@ -18,7 +18,11 @@ fn check_anticipated(stop: SweepStop) {
             row.error_mj_per_cm2,
             row.bound_mj_per_cm2
         );
-        assert!(row.run.record.fault.is_none(), "{case:?}: {:?}", row.run.record.fault);
+        assert!(
+            row.run.record.fault.is_none(),
+            "{case:?}: {:?}",
+            row.run.record.fault
+        );
     }
 }
 

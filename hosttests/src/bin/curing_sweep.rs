@@ -12,11 +12,31 @@ fn main() {
     );
     println!(
         "{:>7} {:>6} {:>6} | {:>11} {:>9} {:>8} | {:>11} {:>9} | {:>11} {:>9} {:>6}",
-        "E_cold", "lag", "rate", "no-antic.", "E·lag", "diff", "anticip.", "bound", "timer", "bound", "ok"
+        "E_cold",
+        "lag",
+        "rate",
+        "no-antic.",
+        "E·lag",
+        "diff",
+        "anticip.",
+        "bound",
+        "timer",
+        "bound",
+        "ok"
     );
     println!(
         "{:>7} {:>6} {:>6} | {:>11} {:>9} {:>8} | {:>11} {:>9} | {:>11} {:>9} {:>6}",
-        "mW/cm²", "ms", "Hz", "err mJ/cm²", "mJ/cm²", "mJ/cm²", "err mJ/cm²", "mJ/cm²", "err mJ/cm²", "mJ/cm²", ""
+        "mW/cm²",
+        "ms",
+        "Hz",
+        "err mJ/cm²",
+        "mJ/cm²",
+        "mJ/cm²",
+        "err mJ/cm²",
+        "mJ/cm²",
+        "err mJ/cm²",
+        "mJ/cm²",
+        ""
     );
     let mut worst_rel: f64 = 0.0;
     let mut all_ok = true;
