@@ -2283,6 +2283,27 @@ mod tests {
     }
 
     #[test]
+    fn anticipation_works_in_a_less_sensitive_range() {
+        // Range 1: 10 W/m² per code, so 100 codes = 1000 W/m²; the dark start is in range 0.
+        // Same expectation as in range 0: the stop at the reading t = 9810 (computed).
+        let mut r = rig(config());
+        r.c.start(PartId(1), Ticks(0)).unwrap();
+        let mut t = 0;
+        while r.c.phase() == CuringPhase::Exposing {
+            t += 10;
+            r.c.on_reading(&Reading {
+                code: 100,
+                range: RangeIndex(1),
+                at: Ticks(t),
+            })
+            .unwrap();
+            assert!(t < 100_000);
+        }
+        assert_eq!(t, 9810);
+        assert!((r.c.delivered().j_per_m2() - 9805.0).abs() < 1e-6);
+    }
+
+    #[test]
     fn without_anticipation_the_stop_waits_for_the_target() {
         let mut c = config();
         c.stop_policy = StopPolicy::AtTarget;
