@@ -292,6 +292,27 @@ impl Integrator {
         Crossed(bits)
     }
 
+    /// Integer units still to integrate before threshold `id` fires: its level minus the open
+    /// segment's sum, in units of [`segment_range`](Self::segment_range) (one unit is
+    /// [`Meter::j_per_m2_per_unit`] of that range). Zero or negative once the threshold is
+    /// crossed; `None` for an unknown handle. Saturates at the `i64` bounds.
+    ///
+    /// This is what a controller needs to anticipate a threshold in integers: with the last
+    /// net code `n` held constant, the sum grows by `2·n` units per tick.
+    #[must_use]
+    pub fn units_to_threshold(&self, id: ThresholdId) -> Option<i64> {
+        self.thresholds
+            .get(usize::from(id.0))
+            .map(|t| t.limit.saturating_sub(self.segment))
+    }
+
+    /// The amplifier range whose integer units the open segment (and every threshold limit)
+    /// is counted in.
+    #[must_use]
+    pub const fn segment_range(&self) -> RangeIndex {
+        self.segment_range
+    }
+
     /// The radiant exposure integrated so far (including any preload).
     #[must_use]
     pub fn exposure(&self) -> RadiantExposure {
@@ -522,6 +543,31 @@ mod tests {
         // 5 J/m² at 20 W/m² takes 250 ms; the dose is exactly 10 J/m² at 250 ms and the stop
         // target is rounded up by one unit, so it fires at the next sample.
         assert_eq!(t, 260);
+    }
+
+    #[test]
+    fn units_to_threshold_counts_down_in_segment_units() {
+        let mut i = Integrator::new(&meter(), 10_000);
+        // 1 J/m² in range 1 (10 W/m² per code, 1000 ticks/s): ½·10/1000 = 0.005 J/m² per
+        // unit, so 200 units, rounded up by one extra unit (NotBefore) = 201.
+        let id = i
+            .add_threshold(RadiantExposure::from_j_per_m2(1.0), Rounding::NotBefore)
+            .unwrap();
+        // Before any interval the segment is still the initial one (range 0, 0.0005 J/m² per
+        // unit): 2000 units + 1.
+        assert_eq!(i.units_to_threshold(id), Some(2001));
+        i.accept(5, RangeIndex(1), Ticks(0)).unwrap();
+        assert_eq!(i.segment_range(), RangeIndex(0));
+        assert_eq!(i.units_to_threshold(id), Some(2001));
+        // 10 ticks at net 5 in range 1: (5 + 5)·10 = 100 units of 0.005 J/m² = 0.5 J/m²,
+        // and the segment is now range 1.
+        i.accept(5, RangeIndex(1), Ticks(10)).unwrap();
+        assert_eq!(i.segment_range(), RangeIndex(1));
+        assert_eq!(i.units_to_threshold(id), Some(101));
+        i.accept(5, RangeIndex(1), Ticks(21)).unwrap();
+        assert_eq!(i.units_to_threshold(id), Some(-9));
+        assert!(i.crossed().contains(id));
+        assert_eq!(i.units_to_threshold(ThresholdId(5)), None);
     }
 
     #[test]

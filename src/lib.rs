@@ -23,6 +23,7 @@
 //!  irradiance  photocurrent → W/m²; Meter joins every stage
 //!  dose        exact integer trapezoid integral, thresholds
 //!  session     target, tolerance, enable/alarm outputs, phases
+//!  curing      curing station: lag anticipation, window, interlock, records
 //! ```
 //!
 //! 1. [`reading`] — the [`PhotodiodeAdc`](reading::PhotodiodeAdc) trait (one non-blocking
@@ -46,6 +47,9 @@
 //!    thresholds pre-converted to integer units, explicit timing faults.
 //! 7. [`session`] — the [`Session`](session::Session): target in J/m², mol/m² or mol,
 //!    tolerance, phases, outputs, progress and time to target.
+//! 8. [`curing`] — the [`CuringController`](curing::CuringController): a curing station's
+//!    stop with actuator-lag anticipation, irradiance window, interlock monitor, light-off
+//!    (stuck-shutter) check, lamp-ageing trend and a record per part.
 //!
 //! Physical quantities are newtypes with the unit in every name ([`quantity`]). Time is
 //! always an argument: the library never reads a clock.
@@ -119,6 +123,7 @@
 pub mod autorange;
 pub mod band;
 pub mod calibration;
+pub mod curing;
 pub mod dose;
 pub mod exposure;
 pub mod frontend;
@@ -137,6 +142,11 @@ pub mod ads1x1x_adc;
 pub mod prelude {
     pub use crate::autorange::{Autorange, AutorangeConfig, Decision};
     pub use crate::band::{Band, BandFactors};
+    pub use crate::curing::{
+        ActuatorLag, CuringConfig, CuringController, CuringFault, CuringPhase, Events, FallPoint,
+        FallProfile, IrradianceLimit, IrradianceWindow, LampReference, LightOffCheck, PartId,
+        PartRecord, StopPolicy, StopReason,
+    };
     pub use crate::dose::{Integrator, Rounding, SampleError};
     pub use crate::frontend::{AdcSpec, AmplifierRange, CodeFault, Coding, FrontEnd};
     pub use crate::irradiance::{Calibration, Meter};

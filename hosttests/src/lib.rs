@@ -5,4 +5,5 @@
 //! through the same traits as hardware.
 
 pub mod fixtures;
+pub mod lamp_curing;
 pub mod sim;
