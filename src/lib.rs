@@ -113,6 +113,7 @@ pub mod frontend;
 pub mod irradiance;
 pub mod quantity;
 pub mod reading;
+pub mod record;
 pub mod session;
 
 #[cfg(feature = "ads1x1x")]
