@@ -20,6 +20,8 @@
 //!  irradiance  photocurrent → W/m²; Meter joins every stage
 //!  dose        exact integer trapezoid integral, thresholds
 //!  session     target, tolerance, enable/alarm outputs, phases
+//!  record      the on-flash record format (versioned contract)
+//!  journal     power-loss-safe log on NOR flash, checkpoints, resume, CSV export
 //! ```
 //!
 //! 1. [`reading`] — the [`PhotodiodeAdc`](reading::PhotodiodeAdc) trait (one non-blocking
@@ -36,6 +38,9 @@
 //!    thresholds pre-converted to integer units, explicit timing faults.
 //! 7. [`session`] — the [`Session`](session::Session): target in J/m², mol/m² or mol,
 //!    tolerance, phases, outputs, progress and time to target.
+//! 8. [`record`] — the on-flash record format: byte layout, CRC-32, version rule.
+//! 9. [`journal`] — the session journal on NOR flash (`embedded-storage`): survives a power
+//!    cut at any byte, recovers the open session and resumes with a conservative dose.
 //!
 //! Physical quantities are newtypes with the unit in every name ([`quantity`]). Time is
 //! always an argument: the library never reads a clock.
@@ -111,6 +116,7 @@ pub mod band;
 pub mod dose;
 pub mod frontend;
 pub mod irradiance;
+pub mod journal;
 pub mod quantity;
 pub mod reading;
 pub mod record;
@@ -132,6 +138,8 @@ pub mod prelude {
         Wavelength,
     };
     pub use crate::reading::{FnAdc, PhotodiodeAdc, RangeIndex, Reading, TickRate, Ticks};
+    pub use crate::journal::checkpoint::{CheckpointConfig, Checkpointer};
+    pub use crate::journal::{Journal, JournalConfig, JournalError, Retention};
     pub use crate::session::{
         ActiveLevel, DoseAmount, Fault, Outcome, Phase, Progress, Session, SessionConfig,
     };
