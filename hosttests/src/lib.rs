@@ -1,1 +1,3 @@
 //! Host-side simulation models for photon-ledger.
+
+pub mod flash;
