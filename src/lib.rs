@@ -132,14 +132,14 @@ pub mod prelude {
     pub use crate::dose::{Integrator, Rounding, SampleError};
     pub use crate::frontend::{AdcSpec, AmplifierRange, CodeFault, Coding, FrontEnd};
     pub use crate::irradiance::{Calibration, Meter};
+    pub use crate::journal::checkpoint::{CheckpointConfig, Checkpointer};
+    pub use crate::journal::{Journal, JournalConfig, JournalError, Retention};
     pub use crate::quantity::{
         Area, Current, Irradiance, IrradiancePerCurrent, PhotonAmount, PhotonExposure, PhotonFlux,
         PhotonIrradiance, RadiantExposure, Responsivity, Seconds, Transimpedance, Voltage,
         Wavelength,
     };
     pub use crate::reading::{FnAdc, PhotodiodeAdc, RangeIndex, Reading, TickRate, Ticks};
-    pub use crate::journal::checkpoint::{CheckpointConfig, Checkpointer};
-    pub use crate::journal::{Journal, JournalConfig, JournalError, Retention};
     pub use crate::session::{
         ActiveLevel, DoseAmount, Fault, Outcome, Phase, Progress, Session, SessionConfig,
     };

@@ -330,7 +330,10 @@ impl<const R: usize, const W: usize, const E: usize> NorFlash for SimFlash<R, W,
                 });
             }
         }
-        if let Some(i) = self.data[o..o + bytes.len()].iter().position(|&b| b != 0xFF) {
+        if let Some(i) = self.data[o..o + bytes.len()]
+            .iter()
+            .position(|&b| b != 0xFF)
+        {
             return Err(SimError::NotErased {
                 offset: (o + i) as u32,
             });
@@ -377,7 +380,10 @@ mod tests {
         let mut f = F::new(2);
         f.write(0, &[0x0F, 0xF0, 0x00, 0xAA]).unwrap();
         assert_eq!(&f.image()[..4], &[0x0F, 0xF0, 0x00, 0xAA]);
-        assert_eq!(f.write(0, &[0; 4]), Err(SimError::WordRewritten { offset: 0 }));
+        assert_eq!(
+            f.write(0, &[0; 4]),
+            Err(SimError::WordRewritten { offset: 0 })
+        );
         assert_eq!(f.write(2, &[0; 4]), Err(SimError::NotAligned));
         f.erase(0, 256).unwrap();
         assert!(f.image()[..256].iter().all(|&b| b == 0xFF));

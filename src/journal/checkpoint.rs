@@ -232,7 +232,12 @@ impl Checkpointer {
 
     /// Start a session: reset the statistics and return its first checkpoint (write it before
     /// enabling the source).
-    pub fn begin(&mut self, session: SessionId, at: Ticks, delivered: RadiantExposure) -> Checkpoint {
+    pub fn begin(
+        &mut self,
+        session: SessionId,
+        at: Ticks,
+        delivered: RadiantExposure,
+    ) -> Checkpoint {
         self.session = session;
         self.started_at = at;
         self.start_delivered_j = delivered.j_per_m2();
@@ -280,7 +285,10 @@ impl Checkpointer {
     /// The checkpoint at `at` (the tick of the last integrated sample) with the dose
     /// delivered so far; resets the interval statistics.
     pub fn checkpoint(&mut self, at: Ticks, delivered: RadiantExposure) -> Checkpoint {
-        let dt = self.config.tick_rate.ticks_to_s(at.wrapping_since(self.last_at));
+        let dt = self
+            .config
+            .tick_rate
+            .ticks_to_s(at.wrapping_since(self.last_at));
         let mean = if dt > 0.0 {
             (delivered.j_per_m2() - self.last_delivered_j) / dt
         } else {
@@ -321,7 +329,12 @@ impl Checkpointer {
 
     /// The end record (summary) of the current session.
     #[must_use]
-    pub fn end(&self, at: Ticks, delivered: RadiantExposure, outcome: SessionOutcome) -> SessionEnd {
+    pub fn end(
+        &self,
+        at: Ticks,
+        delivered: RadiantExposure,
+        outcome: SessionOutcome,
+    ) -> SessionEnd {
         let elapsed = at.wrapping_since(self.started_at);
         let dt = self.config.tick_rate.ticks_to_s(elapsed);
         let mean = if dt > 0.0 {
@@ -355,7 +368,10 @@ pub fn full_scale_irradiance(meter: &Meter) -> Irradiance {
         let r = RangeIndex(i as u8);
         if let Some(range) = fe.range(r) {
             // high_limit ≤ 2²⁴ and |dark| ≤ 2²⁴: the difference fits an i32.
-            let net = fe.high_limit().saturating_sub(1).saturating_sub(range.dark_offset.min(0));
+            let net = fe
+                .high_limit()
+                .saturating_sub(1)
+                .saturating_sub(range.dark_offset.min(0));
             let e = meter.irradiance(net, r).w_per_m2().abs();
             if e > max {
                 max = e;

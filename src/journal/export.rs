@@ -27,7 +27,7 @@ use crate::record::{
 };
 
 /// The CSV header line (without the line end).
-pub const CSV_HEADER: &str = "seq,kind,carried,session,tick,dose_J_per_m2,bound_J_per_m2,\
+pub const CSV_HEADER: &str = "seq,kind,session,tick,dose_J_per_m2,bound_J_per_m2,\
 irr_min_W_per_m2,irr_mean_W_per_m2,irr_max_W_per_m2,code,detail,elapsed_ticks,events,\
 target_J_per_m2,tick_rate_Hz,wavelength_nm,config_digest,calibration_id,interval_ticks";
 
@@ -58,22 +58,22 @@ impl<E> From<core::fmt::Error> for ExportError<E> {
     }
 }
 
-/// Write the header and every retained record, oldest first; carried copies only if
-/// `carried`. Returns the number of record lines written.
+/// Write the header and every retained record, oldest first; the journal's restatements of
+/// an open session only if `restatements`. Returns the number of record lines written.
 ///
 /// # Errors
 /// [`ExportError`]; lines written before the error stay written.
 pub fn export_csv<F: NorFlash, W: Write>(
     journal: &mut Journal<F>,
     out: &mut W,
-    carried: bool,
+    restatements: bool,
 ) -> Result<u32, ExportError<F::Error>> {
     out.write_str(CSV_HEADER)?;
     out.write_str("\n")?;
     let mut n = 0u32;
     for r in journal.records() {
         let r = r.map_err(ExportError::Journal)?;
-        if r.carried && !carried {
+        if matches!(r.body, Body::Restate(_)) && !restatements {
             continue;
         }
         write_csv_line(out, &r)?;
@@ -92,16 +92,36 @@ pub fn write_csv_line<W: Write>(out: &mut W, r: &Record) -> core::fmt::Result {
         Body::Checkpoint(_) => "checkpoint",
         Body::Event(_) => "event",
         Body::End(_) => "end",
+        Body::Restate(_) => "restate",
     };
-    write!(
-        out,
-        "{},{},{},{},",
-        r.seq,
-        kind,
-        u8::from(r.carried),
-        r.body.session().0
-    )?;
+    write!(out, "{},{},{},", r.seq, kind, r.body.session().0)?;
     match r.body {
+        Body::Restate(o) => {
+            // The start's identity columns, and the latest checkpoint's dose and bound.
+            let s = o.start;
+            write!(out, "{},", s.start.0)?;
+            if let Some(c) = o.checkpoint {
+                exposure(out, c.delivered)?;
+                out.write_char(',')?;
+                exposure(out, c.bound)?;
+            } else {
+                out.write_char(',')?;
+            }
+            out.write_str(",,,")?;
+            irradiance(out, s.max_irradiance)?;
+            write!(out, ",,,,,")?;
+            exposure(out, s.target)?;
+            write!(
+                out,
+                ",{},{}.{:03},{:#010x},{},{}",
+                s.tick_rate_hz,
+                s.wavelength.pm() / 1000,
+                s.wavelength.pm() % 1000,
+                s.config_digest.0,
+                s.calibration.0,
+                s.interval_ticks
+            )?;
+        }
         Body::Start(s) => {
             write!(out, "{},,,,,", s.start.0)?;
             irradiance(out, s.max_irradiance)?;
@@ -234,7 +254,6 @@ mod tests {
         let header_cols = CSV_HEADER.split(',').count();
         let cp = Record {
             seq: 9,
-            carried: false,
             body: Body::Checkpoint(Checkpoint {
                 session: SessionId(3),
                 at: Ticks(1500),
@@ -251,7 +270,7 @@ mod tests {
         assert_eq!(line.split(',').count(), header_cols);
         assert_eq!(
             line,
-            "9,checkpoint,0,3,1500,12.000005,512.000006,-0.007,499.999,-2147483.648,,,,,,,,,,"
+            "9,checkpoint,3,1500,12.000005,512.000006,-0.007,499.999,-2147483.648,,,,,,,,,,"
         );
     }
 }

@@ -145,6 +145,9 @@ pub mod sector_field {
     pub const CRC: Range<usize> = 12..16;
 }
 
+/// Encoded length of a restatement record, bytes.
+const RESTATE_LEN: usize = HEADER_LEN + record::payload::restate::LEN + CRC_LEN;
+
 /// Scratch buffer size for reads and record encoding, bytes.
 const BUF: usize = 128;
 
@@ -362,11 +365,11 @@ impl Geometry {
         align_up(len as u32, self.write)
     }
 
-    /// Records of `record_len` encoded bytes that fit a sector after the header and room for
-    /// the two carried records.
+    /// Records of `record_len` encoded bytes that fit a sector after the header and the
+    /// restatement of an open session.
     const fn records_per_sector(&self, record_len: usize) -> u32 {
         let slot = self.slot(record_len);
-        let carry = 2 * self.slot(MAX_RECORD_LEN);
+        let carry = self.slot(RESTATE_LEN);
         let room = self.erase.saturating_sub(self.header).saturating_sub(carry);
         match room.checked_div(slot) {
             Some(n) => n,
@@ -424,7 +427,10 @@ impl<E: core::fmt::Debug> core::fmt::Display for JournalError<E> {
             Self::BadSector { index } => write!(f, "sector {index} does not erase"),
             Self::VerifyFailed => f.write_str("read-back after programming differs"),
             Self::UnsupportedVersion { major } => {
-                write!(f, "journal written in unsupported format major version {major}")
+                write!(
+                    f,
+                    "journal written in unsupported format major version {major}"
+                )
             }
             Self::Exhausted => f.write_str("sequence numbers exhausted"),
         }
@@ -448,35 +454,7 @@ pub struct MountReport {
     pub torn_tail: bool,
 }
 
-/// An open session: its start record and the latest checkpoint of it, if any.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct OpenSession {
-    /// The start record.
-    pub start: SessionStart,
-    /// The latest checkpoint of this session.
-    pub checkpoint: Option<Checkpoint>,
-}
-
-impl OpenSession {
-    /// The session id.
-    #[must_use]
-    pub const fn session(&self) -> SessionId {
-        self.start.session
-    }
-
-    /// The dose to resume from: the bound of the latest checkpoint, or zero if no checkpoint
-    /// was acknowledged (the source must not be enabled before the first one is).
-    ///
-    /// It is never below the dose delivered before the reset, and above it by at most the
-    /// session's `max_irradiance × interval` (plus 2 µJ/m² of rounding), provided the
-    /// integrator followed [`checkpoint::Checkpointer::due`].
-    #[must_use]
-    pub fn dose_bound(&self) -> record::StoredExposure {
-        self.checkpoint
-            .map_or(record::StoredExposure::ZERO, |c| c.bound)
-    }
-}
+pub use crate::record::OpenSession;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -487,6 +465,8 @@ struct Head {
     offset: u32,
     /// No append into this sector any more.
     sealed: bool,
+    /// Valid records in the sector (of any kind).
+    records: u32,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -517,12 +497,13 @@ enum Slot {
 struct SectorScan {
     end: u32,
     sealed: bool,
+    /// Valid records of any kind.
     records: u32,
     last_seq: Option<u32>,
-    first_carried: bool,
-    /// The last start or end record and whether it was a carried copy.
-    boundary: Option<(Body, bool)>,
-    /// The last checkpoint after the boundary (or in the whole sector if none).
+    /// The last start, restatement or end record.
+    boundary: Option<Body>,
+    /// The last checkpoint after the boundary that belongs to it (or in the whole sector if
+    /// there is no boundary).
     checkpoint_after: Option<Checkpoint>,
 }
 
@@ -571,7 +552,8 @@ impl<F: NorFlash> Journal<F> {
             Ok(g) => g,
             Err(e) => return Err(JournalError::Config(e)),
         };
-        let end = u64::from(geometry.base) + u64::from(geometry.sectors) * u64::from(geometry.erase);
+        let end =
+            u64::from(geometry.base) + u64::from(geometry.sectors) * u64::from(geometry.erase);
         if end > flash.capacity() as u64 {
             return Err(JournalError::Config(ConfigError::OutOfRange));
         }
@@ -613,6 +595,7 @@ impl<F: NorFlash> Journal<F> {
             seq,
             offset: scan.end,
             sealed: scan.sealed || config.word_rule == WordRule::WriteOnce,
+            records: scan.records,
         });
         j.report.torn_tail = scan.sealed;
         j.next_seq = match scan.last_seq {
@@ -621,13 +604,9 @@ impl<F: NorFlash> Journal<F> {
         };
         j.open = j.recover(index, seq, scan)?;
         j.recovered = j.open;
-        if let Some(open) = j.open {
-            // The head restates the session only if its last boundary is this start and its
-            // last checkpoint is the session's latest one.
-            let restated = matches!(scan.boundary, Some((Body::Start(s), _)) if s == open.start)
-                && scan.checkpoint_after == open.checkpoint;
-            j.carry_pending = !restated;
-        }
+        // A head without records while a session is open was cut between its header and its
+        // restatement: restate before the next record.
+        j.carry_pending = scan.records == 0 && j.open.is_some();
         Ok(j)
     }
 
@@ -636,7 +615,8 @@ impl<F: NorFlash> Journal<F> {
     /// # Errors
     /// As [`Journal::mount`], and [`JournalError::Flash`] if an erase fails.
     pub fn format(mut flash: F, config: JournalConfig) -> Res<Self, F> {
-        let geometry = Geometry::new::<F>(config.base, config.sectors).map_err(JournalError::Config)?;
+        let geometry =
+            Geometry::new::<F>(config.base, config.sectors).map_err(JournalError::Config)?;
         for i in 0..geometry.sectors {
             let a = geometry.sector_addr(i);
             flash.erase(a, a + geometry.erase)?;
@@ -735,19 +715,25 @@ impl<F: NorFlash> Journal<F> {
     /// [`JournalError::Full`], [`JournalError::BadSector`], [`JournalError::Corrupted`],
     /// [`JournalError::Exhausted`]. On any error the record is not acknowledged.
     pub fn append(&mut self, body: &Body) -> Res<u32, F> {
-        let slot = self.geometry.slot(HEADER_LEN + body.payload_len() + CRC_LEN);
+        let slot = self
+            .geometry
+            .slot(HEADER_LEN + body.payload_len() + CRC_LEN);
         // At most two tries: if the slot is not blank the head is sealed and the record goes
         // to a fresh sector; a fresh sector that is not blank is `Corrupted`.
-        let carry_room = 2 * self.geometry.slot(MAX_RECORD_LEN);
+        let carry_room = self.geometry.slot(MAX_RECORD_LEN);
         for _ in 0..2 {
-            let need = if self.carry_pending { slot + carry_room } else { slot };
+            let need = if self.carry_pending {
+                slot + carry_room
+            } else {
+                slot
+            };
             if !self.head_has_room(need) {
                 self.open_sector()?;
             }
             if self.carry_pending && !self.write_carries()? {
                 continue;
             }
-            if let Some(seq) = self.program(body, false)? {
+            if let Some(seq) = self.program(body)? {
                 self.note_appended(body);
                 return Ok(seq);
             }
@@ -814,6 +800,7 @@ impl<F: NorFlash> Journal<F> {
                     }
                 }
             }
+            Body::Restate(o) => self.open = Some(*o),
             Body::End(_) => self.open = None,
             Body::Event(_) => {}
         }
@@ -840,15 +827,23 @@ impl<F: NorFlash> Journal<F> {
         Err(JournalError::BadSector { index })
     }
 
-    /// Open the next sector: prepare it if needed, program its header, carry the open
-    /// session.
+    /// Open the next sector: prepare it if needed, program its header, restate the open
+    /// session. A head that holds no valid record (its header was programmed, its first record
+    /// torn) is prepared again and reopened in place, so repeated cuts cannot push the ring
+    /// forward and release older sectors.
     fn open_sector(&mut self) -> Res<(), F> {
-        let target = self.next_index();
-        let seq = match self.head {
-            Some(h) => h.seq.checked_add(1).ok_or(JournalError::Exhausted)?,
-            None => 1,
+        let (target, seq) = match self.head {
+            Some(h) if h.records == 0 => (h.index, h.seq),
+            Some(h) => (
+                self.geometry.next(h.index),
+                h.seq.checked_add(1).ok_or(JournalError::Exhausted)?,
+            ),
+            None => (0, 1),
         };
-        if self.config.retention == Retention::KeepAll && self.holds_records(target)? {
+        if self.head.is_some_and(|h| h.index == target) {
+            // Reopen in place: the sector must be erased again (it holds a header).
+            self.spare_ready = None;
+        } else if self.config.retention == Retention::KeepAll && self.holds_records(target)? {
             return Err(JournalError::Full);
         }
         if self.spare_ready != Some(target) {
@@ -872,6 +867,7 @@ impl<F: NorFlash> Journal<F> {
             seq,
             offset: self.geometry.header,
             sealed: false,
+            records: 0,
         });
         self.carry_pending = self.open.is_some();
         if !self.write_carries()? {
@@ -881,18 +877,12 @@ impl<F: NorFlash> Journal<F> {
         Ok(())
     }
 
-    /// Restate the open session (start, latest checkpoint) at the head. `Ok(false)`: a slot
-    /// was not blank (head sealed).
+    /// Restate the open session (one atomic record) at the head. `Ok(false)`: the slot was
+    /// not blank (head sealed).
     fn write_carries(&mut self) -> Res<bool, F> {
         if let Some(open) = self.open {
-            let carried = [
-                Some(Body::Start(open.start)),
-                open.checkpoint.map(Body::Checkpoint),
-            ];
-            for body in carried.iter().flatten() {
-                if self.program(body, true)?.is_none() {
-                    return Ok(false);
-                }
+            if self.program(&Body::Restate(open))?.is_none() {
+                return Ok(false);
             }
         }
         self.carry_pending = false;
@@ -900,17 +890,13 @@ impl<F: NorFlash> Journal<F> {
     }
 
     /// Program one record at the head. `Ok(None)`: the slot was not blank (head sealed).
-    fn program(&mut self, body: &Body, carried: bool) -> Res<Option<u32>, F> {
+    fn program(&mut self, body: &Body) -> Res<Option<u32>, F> {
         let Some(mut head) = self.head else {
             return Err(JournalError::Corrupted);
         };
         let seq = self.next_seq;
         let next = seq.checked_add(1).ok_or(JournalError::Exhausted)?;
-        let rec = Record {
-            seq,
-            carried,
-            body: *body,
-        };
+        let rec = Record { seq, body: *body };
         let mut buf = [0u8; BUF];
         let n = rec.emit(&mut buf).map_err(|_| JournalError::Corrupted)?;
         let slot = self.geometry.slot(n);
@@ -923,12 +909,17 @@ impl<F: NorFlash> Journal<F> {
             self.seal();
             return Ok(None);
         }
+        // The sequence number is used up by the attempt: a failed program may still have left
+        // the whole record on flash, and no later record may share its number.
+        self.next_seq = next;
         if let Err(e) = self.flash.write(addr, bytes) {
             self.seal();
             return Err(JournalError::Flash(e));
         }
         let mut back = [0u8; BUF];
-        let back = back.get_mut(..slot as usize).ok_or(JournalError::Corrupted)?;
+        let back = back
+            .get_mut(..slot as usize)
+            .ok_or(JournalError::Corrupted)?;
         if let Err(e) = read_exact(&mut self.flash, &self.geometry, addr, back) {
             self.seal();
             return Err(JournalError::Flash(e));
@@ -938,8 +929,8 @@ impl<F: NorFlash> Journal<F> {
             return Err(JournalError::VerifyFailed);
         }
         head.offset += slot;
+        head.records = head.records.saturating_add(1);
         self.head = Some(head);
-        self.next_seq = next;
         Ok(Some(seq))
     }
 
@@ -973,23 +964,25 @@ impl<F: NorFlash> Journal<F> {
                         s.sealed = true;
                         return Ok(s);
                     }
+                    s.records += 1;
                     if let Some(r) = record {
-                        if s.records == 0 {
-                            s.first_carried = r.carried;
-                        }
-                        s.records += 1;
                         match r.body {
                             Body::Start(_) | Body::End(_) => {
-                                s.boundary = Some((r.body, r.carried));
+                                s.boundary = Some(r.body);
                                 s.checkpoint_after = None;
                             }
+                            Body::Restate(o) => {
+                                s.boundary = Some(r.body);
+                                s.checkpoint_after = o.checkpoint;
+                            }
                             Body::Checkpoint(c) => {
-                                let matches = match s.boundary {
-                                    Some((Body::Start(st), _)) => st.session == c.session,
+                                let belongs = match s.boundary {
+                                    Some(Body::Start(st)) => st.session == c.session,
+                                    Some(Body::Restate(o)) => o.start.session == c.session,
                                     Some(_) => false,
                                     None => true,
                                 };
-                                if matches {
+                                if belongs {
                                     s.checkpoint_after = Some(c);
                                 }
                             }
@@ -1003,14 +996,14 @@ impl<F: NorFlash> Journal<F> {
         }
     }
 
-    /// The open session from the head sector's scan, walking back when needed.
+    /// The open session: from the newest retained sector that holds a record. A sector
+    /// opened while a session was open starts with its restatement, so that sector alone
+    /// decides; one without any boundary record was opened with no session open.
     fn recover(&mut self, head: u32, head_seq: u32, head_scan: SectorScan) -> Res<Option<OpenSession>, F> {
-        let max_back = self.max_back();
         let mut index = head;
         let mut seq = head_seq;
         let mut scan = head_scan;
-        let mut pending: Option<SessionStart> = None;
-        for step in 0..=max_back {
+        for step in 0..=self.max_back() {
             if step > 0 {
                 let p = self.geometry.prev(index);
                 match read_sector_state(&mut self.flash, &self.geometry, p)? {
@@ -1022,39 +1015,22 @@ impl<F: NorFlash> Journal<F> {
                 }
                 scan = self.scan_sector(index)?;
             }
-            if let Some(start) = pending {
-                // A carried start without its carried checkpoint: the latest checkpoint of
-                // the session is the last one in this (the previous) sector.
-                let cp = scan
-                    .checkpoint_after
-                    .filter(|c| c.session == start.session);
-                return Ok(Some(OpenSession {
-                    start,
-                    checkpoint: cp,
-                }));
-            }
             if scan.records == 0 {
                 continue;
             }
             return Ok(match scan.boundary {
-                Some((Body::Start(start), carried)) => {
-                    if scan.checkpoint_after.is_none() && carried {
-                        pending = Some(start);
-                        continue;
-                    }
-                    Some(OpenSession {
-                        start,
-                        checkpoint: scan.checkpoint_after,
-                    })
-                }
-                // An end, or no boundary in a sector opened with no session open.
+                Some(Body::Start(start)) => Some(OpenSession {
+                    start,
+                    checkpoint: scan.checkpoint_after,
+                }),
+                Some(Body::Restate(o)) => Some(OpenSession {
+                    start: o.start,
+                    checkpoint: scan.checkpoint_after,
+                }),
                 _ => None,
             });
         }
-        Ok(pending.map(|start| OpenSession {
-            start,
-            checkpoint: None,
-        }))
+        Ok(None)
     }
 
     /// How many sectors before the head are retained.
@@ -1131,11 +1107,7 @@ fn read_slot<F: ReadNorFlash>(
     let len = g.slot(view.total_len());
     let seq = view.sequence();
     let record = match Body::parse(view.kind(), view.payload()) {
-        Ok(body) => Some(Record {
-            seq,
-            carried: view.flags() & record::FLAG_CARRIED != 0,
-            body,
-        }),
+        Ok(body) => Some(Record { seq, body }),
         Err(RecordError::UnknownKind(_)) => None,
         Err(_) => return Ok(Slot::Invalid),
     };
@@ -1164,7 +1136,8 @@ fn read_exact<F: ReadNorFlash>(
             return Ok(());
         };
         flash.read(start, buf)?;
-        if let (Some(src), Some(dst)) = (buf.get(skip..skip + want), out.get_mut(done..done + want)) {
+        if let (Some(src), Some(dst)) = (buf.get(skip..skip + want), out.get_mut(done..done + want))
+        {
             dst.copy_from_slice(src);
         }
         done += want;
