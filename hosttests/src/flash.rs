@@ -99,7 +99,7 @@ impl<const R: usize, const W: usize, const E: usize> SimFlash<R, W, E> {
     /// count as programmed.
     #[must_use]
     pub fn from_image(image: Vec<u8>) -> Self {
-        assert!(image.len() % E == 0 && E % W == 0 && E % R == 0);
+        assert!(image.len().is_multiple_of(E) && E.is_multiple_of(W) && E.is_multiple_of(R));
         let sectors = image.len() / E;
         let written = image
             .chunks(W)

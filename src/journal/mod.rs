@@ -999,7 +999,12 @@ impl<F: NorFlash> Journal<F> {
     /// The open session: from the newest retained sector that holds a record. A sector
     /// opened while a session was open starts with its restatement, so that sector alone
     /// decides; one without any boundary record was opened with no session open.
-    fn recover(&mut self, head: u32, head_seq: u32, head_scan: SectorScan) -> Res<Option<OpenSession>, F> {
+    fn recover(
+        &mut self,
+        head: u32,
+        head_seq: u32,
+        head_scan: SectorScan,
+    ) -> Res<Option<OpenSession>, F> {
         let mut index = head;
         let mut seq = head_seq;
         let mut scan = head_scan;
