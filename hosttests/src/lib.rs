@@ -1,3 +1,4 @@
-//! Host-side simulation models for photon-ledger.
+//! Host-side simulation models and tools for photon-ledger.
 
 pub mod flash;
+pub mod image;

@@ -1,6 +1,6 @@
 //! Journal: the session log on NOR flash that survives a power cut at any byte.
 //!
-//! The journal appends [`record`](crate::record)s to a ring of erase sectors through the
+//! The journal appends [records](crate::record) to a ring of erase sectors through the
 //! blocking `embedded-storage` 0.3 traits ([`NorFlash`] / [`ReadNorFlash`]). After a reset,
 //! [`Journal::mount`] finds the last valid record and the open session, and
 //! [`checkpoint`] turns the recovered checkpoint into the dose to resume from — never below
@@ -60,12 +60,24 @@
 //! record goes to the next sector.
 //!
 //! When the next record does not fit, the journal opens the next sector in the ring: it
-//! programs the sector header, then restates (*carries*) the open session's start record
-//! and its latest checkpoint as copies flagged [`FLAG_CARRIED`](crate::record::FLAG_CARRIED),
-//! so the newest sector alone (or, if a cut hits right after the header, the one before it)
-//! is always enough to recover an open session. With `n` sectors and a record of `s` padded
-//! bytes, at least `(n − 2) · ⌊(ERASE_SIZE − header − 2·s_max) / s⌋` most recent records are
-//! retained ([`JournalConfig`] and [`Journal::min_retained_records`]).
+//! programs the sector header, then restates the open session — its start record and latest
+//! checkpoint — in **one** record ([`Body::Restate`]), so the
+//! newest sector that holds any record is always enough to recover an open session. A sector
+//! whose header was programmed but which holds no valid record yet (a cut during its first
+//! record) is erased and reopened **in place**: repeated cuts never move the ring forward and
+//! never release older sectors. After a mount, a head without records while a session is open
+//! gets its restatement before the next record.
+//!
+//! Retention: the head and the `n − 2` sectors before it are kept. Without failures that is at
+//! least `(n − 2) · ⌊(ERASE_SIZE − header − restatement) / s⌋` of the most recent records of
+//! `s` padded bytes ([`Journal::min_retained_records`]); each failed or interrupted program
+//! seals its sector early and so can shorten that window by up to one sector of records (the
+//! open session is never lost: every newer sector restates it).
+//!
+//! After a program is cut before it changed any visible bit, the slot reads erased although
+//! it was touched. With [`WordRule::ReprogramErased`] (plain NOR, default) the journal may
+//! program that slot again; with [`WordRule::WriteOnce`] (flash with ECC) it never does: it
+//! appends into a freshly erased sector after every mount.
 //!
 //! # Recycling and when to erase
 //!
@@ -92,10 +104,11 @@
 //!
 //! [`Journal::mount`] never writes. It reads every sector header (`n` short reads), takes the
 //! valid sector with the highest sequence as the head, and scans the head sector record by
-//! record. For the open session it walks back to the previous sector only when the head holds
-//! no record yet, or holds a carried start whose carried checkpoint was cut. The open session
-//! is the last start record with no end record after it; its dose is the bound of the last
-//! checkpoint of that session ([`OpenSession::dose_bound`]).
+//! record. For the open session it walks back to an older sector only while the newer ones
+//! hold no record (a cut right after a sector header). The open session is the last start
+//! (or restatement) with no end record after it; its dose is the bound of the last checkpoint
+//! of that session ([`OpenSession::dose_bound`]). Every record number is used once, also by a
+//! program that failed (its record may be on flash).
 //!
 //! Any flash content mounts or returns a named error: garbage and foreign images mount as an
 //! empty journal (every sector untrusted; see [`MountReport`]), a sector of a newer major
@@ -518,7 +531,7 @@ pub struct Journal<F> {
     spare_ready: Option<u32>,
     open: Option<OpenSession>,
     /// The head sector does not restate the open session yet (a cut fell between its header
-    /// and its carried records): restate before the next record.
+    /// and its restatement): restate before the next record.
     carry_pending: bool,
     recovered: Option<OpenSession>,
     report: MountReport,
@@ -672,7 +685,7 @@ impl<F: NorFlash> Journal<F> {
     }
 
     /// The fewest most-recent records of `record_len` encoded bytes the ring is guaranteed to
-    /// hold (with [`Retention::Ring`]): `(n − 2)` sectors' worth after the header and carries.
+    /// hold (with [`Retention::Ring`]): `(n − 2)` sectors' worth after the header and restatement, if no program failed.
     pub const fn min_retained_records(&self, record_len: usize) -> u32 {
         let g = &self.geometry;
         (g.sectors - 2).saturating_mul(g.records_per_sector(record_len))
@@ -757,7 +770,7 @@ impl<F: NorFlash> Journal<F> {
         self.prepare(target)
     }
 
-    /// Iterate the retained records oldest first (carried copies included, flagged).
+    /// Iterate the retained records oldest first (the journal's restatements included).
     pub fn records(&mut self) -> Records<'_, F> {
         Records::new(self)
     }
@@ -1143,7 +1156,9 @@ fn read_exact<F: ReadNorFlash>(
         flash.read(start, buf)?;
         if let (Some(src), Some(dst)) = (buf.get(skip..skip + want), out.get_mut(done..done + want))
         {
-            dst.copy_from_slice(src);
+            for (d, s) in dst.iter_mut().zip(src) {
+                *d = *s;
+            }
         }
         done += want;
     }
