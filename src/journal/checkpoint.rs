@@ -258,11 +258,14 @@ impl Checkpointer {
     }
 
     /// Resume a recovered session at `at`: the dose continues from the recovered bound.
-    /// Returns the `Resumed` event and the first checkpoint to append (in that order).
+    /// Returns the `Resumed` event and the first checkpoint to append (in that order). The end
+    /// summary then counts the whole session from its original start (its mean is the dose ÷
+    /// the elapsed ticks, downtime included); minimum and maximum cover the resumed part only.
     pub fn resume(&mut self, recovered: &OpenSession, at: Ticks) -> (Event, Checkpoint) {
         let dose = recovered.dose_bound().radiant_exposure();
         let cp = self.begin(recovered.session(), at, dose);
         self.started_at = recovered.start.start;
+        self.start_delivered_j = 0.0;
         let ev = self.event(at, dose, EventCode::Resumed, 0);
         (ev, cp)
     }
