@@ -34,7 +34,7 @@ pub fn image_to_csv<const R: usize, const W: usize, const E: usize>(
         return Err(DecodeError::Length);
     }
     let flash = SimFlash::<R, W, E>::from_image(image.to_vec());
-    let mut journal = Journal::mount(flash, config).map_err(DecodeError::Mount)?;
+    let mut journal = Journal::mount(flash, config).map_err(|e| DecodeError::Mount(e.error))?;
     let mut out = String::new();
     export_csv(&mut journal, &mut out, restatements).map_err(DecodeError::Export)?;
     Ok(out)

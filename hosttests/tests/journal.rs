@@ -457,7 +457,7 @@ fn tiny_config() -> JournalConfig {
 }
 
 fn exercise(flash: Tiny) {
-    match Journal::mount(flash, tiny_config()) {
+    match Journal::mount(flash, tiny_config()).map_err(|e| e.error) {
         Ok(mut j) => {
             let mut count = 0;
             for r in j.records() {
@@ -557,15 +557,15 @@ fn a_newer_major_format_is_refused_not_erased() {
     let crc = photon_ledger::record::stored_crc(&img[base..base + 12]);
     img[base + 12..base + 16].copy_from_slice(&crc.to_le_bytes());
     let before = img.clone();
-    let r = Journal::mount(Tiny::from_image(img), tiny_config());
+    let r = Journal::mount(Tiny::from_image(img), tiny_config()).map_err(|e| e.error);
     assert!(matches!(
         r,
         Err(JournalError::UnsupportedVersion { major: 2 })
     ));
-    // Mount never writes: the image is untouched (mount consumed the flash; redo to look).
-    let f = Tiny::from_image(before.clone());
-    let r2 = Journal::mount(f, tiny_config());
-    assert!(r2.is_err());
+    // Mount never writes: the flash handed back is untouched.
+    let err = Journal::mount(Tiny::from_image(before.clone()), tiny_config()).unwrap_err();
+    assert_eq!(err.flash.image(), &before[..]);
+    assert_eq!(err.flash.op_counts().1, 0);
 }
 
 #[test]
@@ -585,7 +585,7 @@ fn a_configuration_that_does_not_fit_is_named() {
     );
     let cfg = JournalConfig::try_new::<Tiny>(512, 4, Retention::Ring).unwrap();
     assert!(matches!(
-        Journal::mount(Tiny::new(4), cfg),
+        Journal::mount(Tiny::new(4), cfg).map_err(|e| e.error),
         Err(JournalError::Config(
             photon_ledger::journal::ConfigError::OutOfRange
         ))
@@ -999,4 +999,106 @@ fn any_record() -> impl Strategy<Value = Record> {
     });
     (prop_oneof![start, cp, ev, end, restate], any::<u32>())
         .prop_map(|(body, seq)| Record { seq, body })
+}
+
+// ---------------------------------------------------------------------------------------
+// A driver error injected at every flash operation of a short session.
+// ---------------------------------------------------------------------------------------
+
+fn short_session(inject: Option<u64>) -> (Journal<Tiny>, Model) {
+    let mut flash = Tiny::new(4);
+    if let Some(k) = inject {
+        flash.fail_after_ops(k);
+    }
+    // An error injected into the mount itself is named and hands the flash back: retry.
+    let mut j = match Journal::mount(flash, tiny_config()) {
+        Ok(j) => j,
+        Err(e) => {
+            assert!(matches!(e.error, JournalError::Flash(SimError::Injected)));
+            Journal::mount(e.flash, tiny_config()).unwrap()
+        }
+    };
+    let mut model = Model {
+        history: Vec::new(),
+        failures: 0,
+    };
+    let start = SessionStart {
+        session: SessionId(0),
+        start: Ticks(0),
+        tick_rate_hz: 1000,
+        config_digest: ConfigDigest(9),
+        calibration: CalibrationId(9),
+        wavelength: StoredWavelength::from_pm(405_000),
+        target: StoredExposure::from_uj_per_m2(1),
+        interval_ticks: 1000,
+        max_irradiance: StoredIrradiance::from_mw_per_m2(1),
+    };
+    let push = |model: &mut Model, body: Body, r: &Result<u32, JournalError<SimError>>| {
+        no_rule_violation(r);
+        if r.is_ok() {
+            model.history.push((body, Status::Acked));
+        } else {
+            model.failures += 1;
+            model.history.push((body, Status::Maybe));
+        }
+    };
+    let id = SessionId(j.next_seq());
+    let r = j.begin_session(start).map(|s| s.0);
+    push(
+        &mut model,
+        Body::Start(SessionStart {
+            session: id,
+            ..start
+        }),
+        &r,
+    );
+    for i in 1..=40u32 {
+        let body = Body::Checkpoint(Checkpoint {
+            session: id,
+            at: Ticks(i),
+            delivered: StoredExposure::from_uj_per_m2(u64::from(i)),
+            bound: StoredExposure::from_uj_per_m2(u64::from(i) + 1),
+            min: StoredIrradiance::ZERO,
+            mean: StoredIrradiance::ZERO,
+            max: StoredIrradiance::ZERO,
+        });
+        let r = j.append(&body);
+        push(&mut model, body, &r);
+        let m = j.maintain();
+        no_rule_violation(&m);
+    }
+    let body = Body::End(SessionEnd {
+        session: id,
+        at: Ticks(41),
+        delivered: StoredExposure::ZERO,
+        elapsed_ticks: 41,
+        min: StoredIrradiance::ZERO,
+        mean: StoredIrradiance::ZERO,
+        max: StoredIrradiance::ZERO,
+        outcome: SessionOutcome::TargetMet,
+        events: 0,
+    });
+    let r = j.append(&body);
+    push(&mut model, body, &r);
+    (j, model)
+}
+
+#[test]
+fn a_driver_error_at_any_operation_is_named_and_loses_no_acknowledged_record() {
+    let (clean, _) = short_session(None);
+    let (r, w, e) = clean.flash().op_counts();
+    let total = r + w + e;
+    let mut failed_runs = 0;
+    for k in 0..total {
+        let (j, mut model) = short_session(Some(k));
+        if model.failures > 0 {
+            failed_runs += 1;
+        }
+        let mut f = j.release();
+        f.cancel_injection();
+        let mut j = Journal::mount(f, tiny_config()).unwrap();
+        model.check(&mut j);
+    }
+    eprintln!("injected a driver error at each of {total} operations; {failed_runs} runs saw it");
+    assert!(failed_runs as u64 > total / 2);
 }

@@ -452,6 +452,41 @@ impl<E: core::fmt::Debug> core::fmt::Display for JournalError<E> {
 
 impl<E: core::fmt::Debug> core::error::Error for JournalError<E> {}
 
+/// A failed [`Journal::mount`]: the error and the flash, handed back so the caller can retry
+/// or use it otherwise.
+pub struct MountError<F: embedded_storage::nor_flash::ErrorType> {
+    /// Why the mount failed.
+    pub error: JournalError<F::Error>,
+    /// The flash driver.
+    pub flash: F,
+}
+
+impl<F: embedded_storage::nor_flash::ErrorType> core::fmt::Debug for MountError<F> {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        f.debug_struct("MountError")
+            .field("error", &self.error)
+            .finish_non_exhaustive()
+    }
+}
+
+impl<F: embedded_storage::nor_flash::ErrorType> core::fmt::Display for MountError<F> {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        write!(f, "mount: {}", self.error)
+    }
+}
+
+impl<F: embedded_storage::nor_flash::ErrorType> core::error::Error for MountError<F> {}
+
+#[cfg(feature = "defmt")]
+impl<F: embedded_storage::nor_flash::ErrorType> defmt::Format for MountError<F>
+where
+    F::Error: defmt::Format,
+{
+    fn format(&self, f: defmt::Formatter<'_>) {
+        defmt::write!(f, "MountError {{ error: {} }}", self.error);
+    }
+}
+
 /// What [`Journal::mount`] found in the sector headers.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -557,35 +592,27 @@ impl<F: NorFlash> Journal<F> {
     /// Mount the journal: find the head, the last record and the open session. Never writes.
     ///
     /// # Errors
-    /// [`JournalError::Config`] if the range does not fit the flash,
-    /// [`JournalError::UnsupportedVersion`] for a sector of a newer major format, and
-    /// [`JournalError::Flash`] if a read fails. Any other content mounts (see the module doc).
-    pub fn mount(mut flash: F, config: JournalConfig) -> Res<Self, F> {
+    /// A [`MountError`] that hands the flash back, with [`JournalError::Config`] if the range
+    /// does not fit the flash, [`JournalError::UnsupportedVersion`] for a sector of a newer
+    /// major format, or [`JournalError::Flash`] if a read fails (mount again to retry). Any
+    /// other content mounts (see the module doc).
+    pub fn mount(flash: F, config: JournalConfig) -> Result<Self, MountError<F>> {
         let geometry = match Geometry::new::<F>(config.base, config.sectors) {
             Ok(g) => g,
-            Err(e) => return Err(JournalError::Config(e)),
+            Err(e) => {
+                return Err(MountError {
+                    error: JournalError::Config(e),
+                    flash,
+                })
+            }
         };
         let end =
             u64::from(geometry.base) + u64::from(geometry.sectors) * u64::from(geometry.erase);
         if end > flash.capacity() as u64 {
-            return Err(JournalError::Config(ConfigError::OutOfRange));
-        }
-        let mut report = MountReport::default();
-        let mut head: Option<(u32, u32, u32)> = None;
-        for i in 0..geometry.sectors {
-            match read_sector_state(&mut flash, &geometry, i)? {
-                SectorState::Erased => report.erased += 1,
-                SectorState::Untrusted => report.untrusted += 1,
-                SectorState::Newer { major } => {
-                    return Err(JournalError::UnsupportedVersion { major })
-                }
-                SectorState::Valid { seq, first_record } => {
-                    report.valid += 1;
-                    if head.is_none_or(|(_, s, _)| seq > s) {
-                        head = Some((i, seq, first_record));
-                    }
-                }
-            }
+            return Err(MountError {
+                error: JournalError::Config(ConfigError::OutOfRange),
+                flash,
+            });
         }
         let mut j = Self {
             flash,
@@ -597,42 +624,80 @@ impl<F: NorFlash> Journal<F> {
             open: None,
             carry_pending: false,
             recovered: None,
-            report,
+            report: MountReport::default(),
         };
+        match j.scan_all() {
+            Ok(()) => Ok(j),
+            Err(error) => Err(MountError {
+                error,
+                flash: j.flash,
+            }),
+        }
+    }
+
+    fn scan_all(&mut self) -> Res<(), F> {
+        let mut head: Option<(u32, u32, u32)> = None;
+        for i in 0..self.geometry.sectors {
+            match read_sector_state(&mut self.flash, &self.geometry, i)? {
+                SectorState::Erased => self.report.erased += 1,
+                SectorState::Untrusted => self.report.untrusted += 1,
+                SectorState::Newer { major } => {
+                    return Err(JournalError::UnsupportedVersion { major })
+                }
+                SectorState::Valid { seq, first_record } => {
+                    self.report.valid += 1;
+                    if head.is_none_or(|(_, s, _)| seq > s) {
+                        head = Some((i, seq, first_record));
+                    }
+                }
+            }
+        }
         let Some((index, seq, first_record)) = head else {
-            return Ok(j);
+            return Ok(());
         };
-        let scan = j.scan_sector(index)?;
-        j.head = Some(Head {
+        let scan = self.scan_sector(index)?;
+        self.head = Some(Head {
             index,
             seq,
             offset: scan.end,
-            sealed: scan.sealed || config.word_rule == WordRule::WriteOnce,
+            sealed: scan.sealed || self.config.word_rule == WordRule::WriteOnce,
             records: scan.records,
         });
-        j.report.torn_tail = scan.sealed;
-        j.next_seq = match scan.last_seq {
+        self.report.torn_tail = scan.sealed;
+        self.next_seq = match scan.last_seq {
             Some(s) => s.checked_add(1).ok_or(JournalError::Exhausted)?,
             None => first_record.max(1),
         };
-        j.open = j.recover(index, seq, scan)?;
-        j.recovered = j.open;
+        self.open = self.recover(index, seq, scan)?;
+        self.recovered = self.open;
         // A head without records while a session is open was cut between its header and its
         // restatement: restate before the next record.
-        j.carry_pending = scan.records == 0 && j.open.is_some();
-        Ok(j)
+        self.carry_pending = scan.records == 0 && self.open.is_some();
+        Ok(())
     }
 
     /// Erase every sector of the journal and mount it empty.
     ///
     /// # Errors
-    /// As [`Journal::mount`], and [`JournalError::Flash`] if an erase fails.
-    pub fn format(mut flash: F, config: JournalConfig) -> Res<Self, F> {
-        let geometry =
-            Geometry::new::<F>(config.base, config.sectors).map_err(JournalError::Config)?;
+    /// As [`Journal::mount`]; an erase that fails is reported the same way.
+    pub fn format(mut flash: F, config: JournalConfig) -> Result<Self, MountError<F>> {
+        let geometry = match Geometry::new::<F>(config.base, config.sectors) {
+            Ok(g) => g,
+            Err(e) => {
+                return Err(MountError {
+                    error: JournalError::Config(e),
+                    flash,
+                })
+            }
+        };
         for i in 0..geometry.sectors {
             let a = geometry.sector_addr(i);
-            flash.erase(a, a + geometry.erase)?;
+            if let Err(e) = flash.erase(a, a + geometry.erase) {
+                return Err(MountError {
+                    error: JournalError::Flash(e),
+                    flash,
+                });
+            }
         }
         Self::mount(flash, config)
     }
