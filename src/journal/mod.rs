@@ -306,7 +306,10 @@ struct Geometry {
 }
 
 const fn align_up(v: u32, to: u32) -> u32 {
-    // Callers keep v ≤ 2³¹ and to ≤ 32, so neither the sum nor the product overflows.
+    if to == 0 {
+        return v;
+    }
+    // Callers keep v ≤ 2³¹ and to ≤ 32, so the product does not overflow.
     v.div_ceil(to) * to
 }
 
@@ -1210,7 +1213,7 @@ fn read_exact<F: ReadNorFlash>(
     while done < out.len() {
         // Addresses stay inside the validated journal range (< 2³²).
         let a = addr + done as u32;
-        let start = a - a % r;
+        let start = a - a.checked_rem(r).unwrap_or(0);
         let skip = (a - start) as usize;
         // skip < r ≤ 32, so at least BUF − 2·32 bytes fit per chunk.
         let want = (out.len() - done).min(BUF - 2 * MAX_READ_SIZE);
