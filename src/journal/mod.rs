@@ -34,8 +34,9 @@
 //! ([`JournalError::UnsupportedVersion`]) instead of erasing it.
 //!
 //! Records follow the header back to back, each padded with `0x00` to a multiple of
-//! `WRITE_SIZE`, so every record starts on a write-aligned slot and no flash word is ever
-//! programmed twice (the journal works on flash with ECC that forbids re-programming).
+//! `WRITE_SIZE`, so every record starts on a write-aligned slot and, in normal operation, no
+//! flash word is programmed twice between erases (the one exception after a cut is governed
+//! by [`WordRule`], below).
 //!
 //! # The state of a sector
 //!
@@ -96,9 +97,10 @@
 //! [`Retention::KeepAll`] the journal never recycles a sector that holds records and returns
 //! [`JournalError::Full`] instead (a per-part record that must not be lost).
 //!
-//! Erases are strictly round-robin, so the erase counts of all sectors stay within one of each
-//! other; [`Journal::lifetime_records`] estimates how many records fit in the flash's rated
-//! erase cycles.
+//! Erases are strictly round-robin, so without power cuts the erase counts of all sectors stay
+//! within one of each other (a cut can add an erase to one sector: a sector reopened in place,
+//! a re-erased spare); [`Journal::lifetime_records`] estimates how many records fit in the
+//! flash's rated erase cycles.
 //!
 //! # Mount and recovery
 //!
