@@ -24,6 +24,8 @@
 //!  dose        exact integer trapezoid integral, thresholds
 //!  session     target, tolerance, enable/alarm outputs, phases
 //!  curing      curing station: lag anticipation, window, interlock, records
+//!  record      the on-flash record format (versioned contract)
+//!  journal     power-loss-safe log on NOR flash, checkpoints, resume, CSV export
 //! ```
 //!
 //! 1. [`reading`] — the [`PhotodiodeAdc`](reading::PhotodiodeAdc) trait (one non-blocking
@@ -50,6 +52,9 @@
 //! 8. [`curing`] — the [`CuringController`](curing::CuringController): a curing station's
 //!    stop with actuator-lag anticipation, irradiance window, interlock monitor, light-off
 //!    (stuck-shutter) check, lamp-ageing trend and a record per part.
+//! 9. [`record`] — the on-flash record format: byte layout, CRC-32, version rule.
+//! 10. [`journal`] — the session journal on NOR flash (`embedded-storage`): survives a power
+//!     cut at any byte, recovers the open session and resumes with a conservative dose.
 //!
 //! Physical quantities are newtypes with the unit in every name ([`quantity`]). Time is
 //! always an argument: the library never reads a clock.
@@ -128,9 +133,11 @@ pub mod dose;
 pub mod exposure;
 pub mod frontend;
 pub mod irradiance;
+pub mod journal;
 pub mod plausibility;
 pub mod quantity;
 pub mod reading;
+pub mod record;
 pub mod session;
 pub mod spectrum;
 pub mod weighting;
@@ -150,6 +157,8 @@ pub mod prelude {
     pub use crate::dose::{Integrator, Rounding, SampleError};
     pub use crate::frontend::{AdcSpec, AmplifierRange, CodeFault, Coding, FrontEnd};
     pub use crate::irradiance::{Calibration, Meter};
+    pub use crate::journal::checkpoint::{CheckpointConfig, Checkpointer};
+    pub use crate::journal::{Journal, JournalConfig, JournalError, Retention};
     pub use crate::quantity::{
         Area, Current, Irradiance, IrradiancePerCurrent, PhotonAmount, PhotonExposure, PhotonFlux,
         PhotonIrradiance, RadiantExposure, Responsivity, Seconds, Transimpedance, Voltage,

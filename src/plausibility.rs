@@ -45,6 +45,23 @@ pub enum Implausible {
     RangeFlapping,
 }
 
+impl Implausible {
+    /// A stable number for this reason (as stored in journal event details): 1 stuck, 2 pinned
+    /// low, 3 pinned high, 4 negative current, 5 rate of change, 6 dark drift, 7 flapping.
+    #[must_use]
+    pub const fn code(self) -> u32 {
+        match self {
+            Self::StuckCode => 1,
+            Self::PinnedLow => 2,
+            Self::PinnedHigh => 3,
+            Self::NegativeCurrent => 4,
+            Self::RateOfChange => 5,
+            Self::DarkDrift => 6,
+            Self::RangeFlapping => 7,
+        }
+    }
+}
+
 impl core::fmt::Display for Implausible {
     fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
         f.write_str(match self {

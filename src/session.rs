@@ -374,6 +374,23 @@ where
         self.enter_fault(reason)
     }
 
+    /// Resume from a dose already delivered (the bound recovered from the journal after a
+    /// reset, see `journal::checkpoint::resume_session`). Applied only in [`Phase::Ready`],
+    /// before [`Session::start`]; returns `false` and changes nothing otherwise.
+    pub fn set_preload(&mut self, delivered: RadiantExposure) -> bool {
+        if self.phase != Phase::Ready {
+            return false;
+        }
+        self.integrator.set_preload(delivered);
+        true
+    }
+
+    /// The validated configuration.
+    #[must_use]
+    pub const fn config(&self) -> &SessionConfig {
+        &self.config
+    }
+
     /// The current phase.
     #[must_use]
     pub const fn phase(&self) -> Phase {

@@ -5,5 +5,7 @@
 //! through the same traits as hardware.
 
 pub mod fixtures;
+pub mod flash;
+pub mod image;
 pub mod lamp_curing;
 pub mod sim;
