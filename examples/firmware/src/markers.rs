@@ -6,12 +6,11 @@
 //! (end): that is the measured call including its argument set-up and the `bl` to the end
 //! marker. The empty pair (`pl_mark_0`, `pl_mark_1`) measures that overhead.
 //!
-//! Each marker stores a different value, so the compiler cannot merge them into one symbol.
-
-use core::sync::atomic::{AtomicU32, Ordering};
+//! Each marker makes a different volatile store, so the compiler can neither drop a call
+//! (an atomic store to a never-read static would be removed) nor merge two markers.
 
 /// The last marker passed (written only so the markers differ and stay observable).
-pub static MARK: AtomicU32 = AtomicU32::new(0);
+static mut MARK: u32 = 0;
 
 macro_rules! marker {
     ($name:ident, $n:expr) => {
@@ -19,7 +18,9 @@ macro_rules! marker {
         #[inline(never)]
         #[no_mangle]
         pub extern "C" fn $name() {
-            MARK.store($n, Ordering::SeqCst);
+            // SAFETY: a volatile store of a plain integer to a static that nothing reads
+            // concurrently (it is never read at all).
+            unsafe { core::ptr::write_volatile(core::ptr::addr_of_mut!(MARK), $n) };
         }
     };
 }
