@@ -261,6 +261,24 @@ impl embedded_hal::digital::OutputPin for SimPin {
 /// The session type of the examples.
 pub type DemoSession = Session<SimPin, SimPin>;
 
+/// Build the demonstration session into `slot` (a static in the examples), in a frame of
+/// its own, so that the temporaries of construction (meter, integrator, `Result`) are gone
+/// before the run starts and do not add to the stack high-water mark. Leaves `None` on a
+/// configuration error.
+#[inline(never)]
+pub fn init_session(
+    slot: &mut Option<DemoSession>,
+    config: SessionConfig,
+    en: &'static PinState,
+    al: &'static PinState,
+) {
+    *slot = None;
+    let Some(meter) = demo_meter() else { return };
+    if let Ok(s) = DemoSession::new(meter, config, SimPin(en), SimPin(al)) {
+        *slot = Some(s);
+    }
+}
+
 // ---------------------------------------------------------------------------------------
 // Checks and exit
 // ---------------------------------------------------------------------------------------

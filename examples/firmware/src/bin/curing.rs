@@ -18,8 +18,8 @@ use cortex_m_semihosting::hprintln;
 use panic_semihosting as _;
 use photon_ledger::prelude::*;
 use photon_ledger_firmware::{
-    curing_config, demo_meter, reference_j_per_m2_per_unit, stack, uj_per_cm2, units_of_mj_per_cm2,
-    Checks, DemoSession, Lamp, PinState, Reference, SimPin, SAMPLE_TICKS,
+    curing_config, init_session, reference_j_per_m2_per_unit, stack, uj_per_cm2, units_of_mj_per_cm2,
+    Checks, DemoSession, Lamp, PinState, Reference, SAMPLE_TICKS,
 };
 
 static PINS: [PinState; 6] = [
@@ -45,17 +45,6 @@ struct Run {
     /// library's one-unit safe rounding cannot move the transition).
     expect_target: Option<(u32, bool)>,
     expect_over: Option<(u32, bool)>,
-}
-
-/// Build the session in its own frame, so that the temporaries of construction are gone
-/// when the run starts (they would otherwise add to the stack high-water mark).
-#[inline(never)]
-fn new_session(slot: &mut Option<DemoSession>, en: &'static PinState, al: &'static PinState) {
-    let config = curing_config(TARGET_MJ_PER_CM2, TOLERANCE_MJ_PER_CM2);
-    let Some(meter) = demo_meter() else { return };
-    if let Ok(s) = DemoSession::new(meter, config, SimPin(en), SimPin(al)) {
-        *slot = Some(s);
-    }
 }
 
 #[inline(never)]
@@ -150,8 +139,7 @@ fn scenario_normal(
     al: &'static PinState,
 ) {
     hprintln!("scenario 1: normal curing run");
-    *slot = None;
-    new_session(slot, en, al);
+    init_session(slot, curing_config(TARGET_MJ_PER_CM2, TOLERANCE_MJ_PER_CM2), en, al);
     let Some(session) = slot.as_mut() else {
         return c.check("scenario 1 set-up", false);
     };
@@ -195,8 +183,7 @@ fn scenario_stuck_shutter(
     al: &'static PinState,
 ) {
     hprintln!("scenario 2: shutter stuck open");
-    *slot = None;
-    new_session(slot, en, al);
+    init_session(slot, curing_config(TARGET_MJ_PER_CM2, TOLERANCE_MJ_PER_CM2), en, al);
     let Some(session) = slot.as_mut() else {
         return c.check("scenario 2 set-up", false);
     };
@@ -228,8 +215,7 @@ fn scenario_saturation(
     hprintln!("scenario 3: ADC saturates at sample 100");
     let mut lamp = Lamp::new(2000, 25, true);
     lamp.saturate_at = Some(100);
-    *slot = None;
-    new_session(slot, en, al);
+    init_session(slot, curing_config(TARGET_MJ_PER_CM2, TOLERANCE_MJ_PER_CM2), en, al);
     let Some(session) = slot.as_mut() else {
         return c.check("scenario 3 set-up", false);
     };
