@@ -63,7 +63,8 @@ impl ThresholdId {
     /// The bit of this threshold in a [`Crossed`] set.
     #[must_use]
     pub const fn bit(self) -> u8 {
-        1 << self.0
+        // Ids are only made by `add_threshold`, below MAX_THRESHOLDS = 6 < 8: never wraps.
+        1u8.wrapping_shl(self.0 as u32)
     }
 }
 
@@ -170,7 +171,8 @@ impl Integrator {
     #[must_use]
     pub fn new(meter: &Meter, max_gap: u32) -> Self {
         let mut scale = [0.0; MAX_RANGES];
-        for (i, s) in (0u8..).zip(scale.iter_mut()) {
+        // A bounded index range: `0u8..` could overflow (and panic) as far as the compiler knows.
+        for (i, s) in (0u8..MAX_RANGES as u8).zip(scale.iter_mut()) {
             *s = meter.j_per_m2_per_unit(RangeIndex(i));
         }
         Self {
@@ -363,9 +365,11 @@ impl Integrator {
         let mut bits = 0u8;
         let mut low = i64::MIN;
         let mut high = i64::MAX;
-        for (i, t) in (0u8..).zip(self.thresholds.iter()) {
+        // At most MAX_THRESHOLDS (6) entries, so the bounded index range covers them all.
+        for (i, t) in (0u8..MAX_THRESHOLDS as u8).zip(self.thresholds.iter()) {
             if self.segment >= t.limit {
-                bits |= 1 << i;
+                // i < MAX_THRESHOLDS = 6 < 8: the shift never wraps.
+                bits |= 1u8.wrapping_shl(u32::from(i));
                 low = low.max(t.limit);
             } else {
                 high = high.min(t.limit);
@@ -394,9 +398,11 @@ impl Integrator {
     #[must_use]
     pub fn crossed(&self) -> Crossed {
         let mut bits = 0u8;
-        for (i, t) in (0u8..).zip(self.thresholds.iter()) {
+        // At most MAX_THRESHOLDS (6) entries, so the bounded index range covers them all.
+        for (i, t) in (0u8..MAX_THRESHOLDS as u8).zip(self.thresholds.iter()) {
             if self.segment >= t.limit {
-                bits |= 1 << i;
+                // i < MAX_THRESHOLDS = 6 < 8: the shift never wraps.
+                bits |= 1u8.wrapping_shl(u32::from(i));
             }
         }
         Crossed(bits)
@@ -497,8 +503,9 @@ fn small_trapezoid_term(a: i32, b: i32, dt: u32) -> Option<i32> {
     // Bias the sum into 0 ..< 2¹⁸ (as u32): then both range checks are one shift each.
     let biased = (sum as u32).wrapping_add(1 << 17);
     if (biased >> 18) | (dt >> 14) == 0 {
-        // |sum| ≤ 2¹⁷ and dt ≤ 2¹⁴ − 1 (so `dt as i32` is exact): |sum · dt| < 2³¹.
-        Some(sum * dt as i32)
+        // |sum| ≤ 2¹⁷ and dt ≤ 2¹⁴ − 1 (so `dt as i32` is exact): |sum · dt| < 2³¹, so the
+        // wrapping multiply never wraps (the compiler cannot see that through the shifts).
+        Some(sum.wrapping_mul(dt as i32))
     } else {
         None
     }
