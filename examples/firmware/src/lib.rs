@@ -320,12 +320,7 @@ impl Checks {
     }
     /// Print the summary and leave QEMU with success (all passed) or failure.
     pub fn finish(&self, name: &str) -> ! {
-        hprintln!(
-            "{}: {} passed, {} failed",
-            name,
-            self.passed,
-            self.failed
-        );
+        hprintln!("{}: {} passed, {} failed", name, self.passed, self.failed);
         exit(self.failed == 0 && self.passed > 0)
     }
 }
@@ -354,7 +349,10 @@ unsafe fn HardFault(ef: &ExceptionFrame) -> ! {
     let pc = ef.pc();
     for (i, slot) in line.iter_mut().skip(18).take(8).enumerate() {
         let nibble = (pc >> (28 - 4 * i)) & 0xF;
-        *slot = b"0123456789abcdef".get(nibble as usize).copied().unwrap_or(b'?');
+        *slot = b"0123456789abcdef"
+            .get(nibble as usize)
+            .copied()
+            .unwrap_or(b'?');
     }
     if let Ok(mut out) = cortex_m_semihosting::hio::hstdout() {
         let _ = out.write_all(&line);

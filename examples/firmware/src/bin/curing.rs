@@ -18,8 +18,8 @@ use cortex_m_semihosting::hprintln;
 use panic_semihosting as _;
 use photon_ledger::prelude::*;
 use photon_ledger_firmware::{
-    curing_config, init_session, reference_j_per_m2_per_unit, stack, uj_per_cm2, units_of_mj_per_cm2,
-    Checks, DemoSession, Lamp, PinState, Reference, SAMPLE_TICKS,
+    curing_config, init_session, reference_j_per_m2_per_unit, stack, uj_per_cm2,
+    units_of_mj_per_cm2, Checks, DemoSession, Lamp, PinState, Reference, SAMPLE_TICKS,
 };
 
 static PINS: [PinState; 6] = [
@@ -117,7 +117,11 @@ fn run(
 
 fn common(c: &mut Checks, session: &DemoSession, run: &Run) {
     let raw = session.integrator().raw_total(RangeIndex(0));
-    c.eq("exact integral (code*ticks*2)", raw as i64, run.reference.sum);
+    c.eq(
+        "exact integral (code*ticks*2)",
+        raw as i64,
+        run.reference.sum,
+    );
     let h = session.progress().exposure.j_per_m2();
     let h_ref = run.reference.sum as f64 * reference_j_per_m2_per_unit();
     c.check(
@@ -139,7 +143,12 @@ fn scenario_normal(
     al: &'static PinState,
 ) {
     hprintln!("scenario 1: normal curing run");
-    init_session(slot, curing_config(TARGET_MJ_PER_CM2, TOLERANCE_MJ_PER_CM2), en, al);
+    init_session(
+        slot,
+        curing_config(TARGET_MJ_PER_CM2, TOLERANCE_MJ_PER_CM2),
+        en,
+        al,
+    );
     let Some(session) = slot.as_mut() else {
         return c.check("scenario 1 set-up", false);
     };
@@ -155,7 +164,10 @@ fn scenario_normal(
     );
     c.check("no further phase change", r.changes[1].is_none());
     c.check("final phase TargetMet", session.phase() == Phase::TargetMet);
-    c.check("dose never reached target + tolerance", r.expect_over.is_none());
+    c.check(
+        "dose never reached target + tolerance",
+        r.expect_over.is_none(),
+    );
     c.check(
         "enable: one rise, one fall, now low",
         en.rises() == 1 && en.falls() == 1 && !en.is_high(),
@@ -171,7 +183,10 @@ fn scenario_normal(
         "FIGURE session_state_bytes {}",
         core::mem::size_of::<DemoSession>()
     );
-    hprintln!("  size_of Integrator {}", core::mem::size_of::<Integrator>());
+    hprintln!(
+        "  size_of Integrator {}",
+        core::mem::size_of::<Integrator>()
+    );
     hprintln!("  size_of Meter {}", core::mem::size_of::<Meter>());
 }
 
@@ -183,7 +198,12 @@ fn scenario_stuck_shutter(
     al: &'static PinState,
 ) {
     hprintln!("scenario 2: shutter stuck open");
-    init_session(slot, curing_config(TARGET_MJ_PER_CM2, TOLERANCE_MJ_PER_CM2), en, al);
+    init_session(
+        slot,
+        curing_config(TARGET_MJ_PER_CM2, TOLERANCE_MJ_PER_CM2),
+        en,
+        al,
+    );
     let Some(session) = slot.as_mut() else {
         return c.check("scenario 2 set-up", false);
     };
@@ -215,7 +235,12 @@ fn scenario_saturation(
     hprintln!("scenario 3: ADC saturates at sample 100");
     let mut lamp = Lamp::new(2000, 25, true);
     lamp.saturate_at = Some(100);
-    init_session(slot, curing_config(TARGET_MJ_PER_CM2, TOLERANCE_MJ_PER_CM2), en, al);
+    init_session(
+        slot,
+        curing_config(TARGET_MJ_PER_CM2, TOLERANCE_MJ_PER_CM2),
+        en,
+        al,
+    );
     let Some(session) = slot.as_mut() else {
         return c.check("scenario 3 set-up", false);
     };
@@ -248,6 +273,9 @@ fn main() -> ! {
     let used = stack::high_water();
     hprintln!("FIGURE stack_bytes {}", used);
     hprintln!("  stack available {}", stack::available());
-    c.check("stack high-water below the painted region", used < stack::available());
+    c.check(
+        "stack high-water below the painted region",
+        used < stack::available(),
+    );
     c.finish("curing")
 }

@@ -84,7 +84,12 @@ fn main() -> ! {
         reference.sum,
         ok_integral
     );
-    defmt::info!("stop at sample {} (expected {}): {=bool}", stop, expected_stop, ok_stop);
+    defmt::info!(
+        "stop at sample {} (expected {}): {=bool}",
+        stop,
+        expected_stop,
+        ok_stop
+    );
     defmt::info!("enable low after one fall, alarm low: {=bool}", ok_pins);
     defmt::info!("FIGURE stack_bytes {=usize}", stack::high_water());
     let ok = ok_integral && ok_stop && ok_pins;

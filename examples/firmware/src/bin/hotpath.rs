@@ -96,7 +96,10 @@ fn main() -> ! {
     // Integrator with the same two thresholds a session registers.
     let mut integ = Integrator::new(&meter, 100);
     let t_ok = integ
-        .add_threshold(RadiantExposure::from_mj_per_cm2(TARGET), Rounding::NotBefore)
+        .add_threshold(
+            RadiantExposure::from_mj_per_cm2(TARGET),
+            Rounding::NotBefore,
+        )
         .is_ok();
     let o_ok = integ
         .add_threshold(
@@ -186,7 +189,10 @@ fn main() -> ! {
         c.finish("hotpath")
     };
     let mut i2 = Integrator::new(&m2, 100);
-    let _ = i2.add_threshold(RadiantExposure::from_mj_per_cm2(TARGET), Rounding::NotBefore);
+    let _ = i2.add_threshold(
+        RadiantExposure::from_mj_per_cm2(TARGET),
+        Rounding::NotBefore,
+    );
     let _ = i2.add_threshold(
         RadiantExposure::from_mj_per_cm2(TARGET + TOLERANCE),
         Rounding::NotAfter,

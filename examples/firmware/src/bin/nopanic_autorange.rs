@@ -21,18 +21,22 @@ fn main() -> ! {
         down: 0.08,
         settle_samples: 2,
     });
-    let mut a: Autorange<OpaquePin, 2> =
-        match Autorange::new([OpaquePin, OpaquePin], &fe, config, RangeIndex(black_box(7))) {
-            Ok(a) => a,
-            Err(Ok(e)) => {
-                show(&e);
-                done()
-            }
-            Err(Err(e)) => {
-                black_box(e);
-                done()
-            }
-        };
+    let mut a: Autorange<OpaquePin, 2> = match Autorange::new(
+        [OpaquePin, OpaquePin],
+        &fe,
+        config,
+        RangeIndex(black_box(7)),
+    ) {
+        Ok(a) => a,
+        Err(Ok(e)) => {
+            show(&e);
+            done()
+        }
+        Err(Err(e)) => {
+            black_box(e);
+            done()
+        }
+    };
     for n in 0..black_box(500u32) {
         let r = Reading {
             code: black_box((n * 37 % 4200) as i32),

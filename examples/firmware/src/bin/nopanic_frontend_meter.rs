@@ -42,7 +42,9 @@ fn main() -> ! {
     black_box(fe.range_count());
     black_box(fe.high_limit());
     black_box(fe.volts_per_code());
-    if let Err(e) = BandFactors::new(&black_box(Band::Line(Wavelength::from_nm(black_box(254.0))))) {
+    if let Err(e) = BandFactors::new(&black_box(Band::Line(Wavelength::from_nm(black_box(
+        254.0,
+    ))))) {
         show(&e);
     }
     if let Ok(b) = BandFactors::new(&black_box(Band::Led {
@@ -66,9 +68,23 @@ fn main() -> ! {
     black_box(m.irradiance_of_current(Current::from_ua(black_box(2.0))));
     black_box(m.calibration().w_per_m2_per_a());
     black_box(m.tick_rate().ticks_to_s(black_box(1500)));
-    black_box(Wavelength::from_nm(black_box(405.0)).photon_energy().kj_per_mol());
-    black_box(Responsivity::from_quantum_efficiency(black_box(0.8), Wavelength::from_nm(black_box(405.0))).a_per_w());
-    if let Err(e) = black_box(Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(black_box(-1.0)))).factor() {
+    black_box(
+        Wavelength::from_nm(black_box(405.0))
+            .photon_energy()
+            .kj_per_mol(),
+    );
+    black_box(
+        Responsivity::from_quantum_efficiency(
+            black_box(0.8),
+            Wavelength::from_nm(black_box(405.0)),
+        )
+        .a_per_w(),
+    );
+    if let Err(e) = black_box(Calibration::Certificate(
+        IrradiancePerCurrent::from_w_per_m2_per_a(black_box(-1.0)),
+    ))
+    .factor()
+    {
         show(&e);
     }
     done()

@@ -24,7 +24,8 @@ fn main() -> ! {
         } else {
             Rounding::NotAfter
         };
-        if let Err(level) = i.add_threshold(RadiantExposure::from_j_per_m2(black_box(k as f64)), r) {
+        if let Err(level) = i.add_threshold(RadiantExposure::from_j_per_m2(black_box(k as f64)), r)
+        {
             black_box(level);
         }
     }

@@ -22,7 +22,7 @@ fn main() -> ! {
     } else {
         DoseAmount::PhotonExposure(PhotonExposure::from_umol_per_m2(black_box(50.0)))
     };
-    black_box(to_exposure(&m, target).map(|h| h.j_per_m2()));
+    let _ = black_box(to_exposure(&m, target).map(|h| h.j_per_m2()));
     let config = black_box(SessionConfig {
         target,
         tolerance: DoseAmount::RadiantExposure(RadiantExposure::from_mj_per_cm2(0.5)),

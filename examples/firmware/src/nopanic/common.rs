@@ -5,6 +5,9 @@
 // path survives optimisation (release, fat LTO, one codegen unit, and the library compiled
 // with overflow checks), linking fails with `undefined symbol: photon_ledger_panic_path_survived`.
 
+// Not every binary uses every helper.
+#![allow(dead_code)]
+
 use core::hint::black_box;
 
 extern "C" {
@@ -59,7 +62,8 @@ pub fn done() -> ! {
 }
 
 /// A front end from opaque values.
-pub fn front_end() -> Result<photon_ledger::frontend::FrontEnd, photon_ledger::frontend::FrontEndError> {
+pub fn front_end(
+) -> Result<photon_ledger::frontend::FrontEnd, photon_ledger::frontend::FrontEndError> {
     use photon_ledger::prelude::*;
     let spec = black_box(AdcSpec {
         bits: 12,
