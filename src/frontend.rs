@@ -217,7 +217,6 @@ impl FrontEnd {
 
     /// The amplifier range `r`, if it exists.
     #[must_use]
-    #[inline]
     pub fn range(&self, r: RangeIndex) -> Option<&AmplifierRange> {
         self.ranges.get(usize::from(r.0))
     }
@@ -233,7 +232,6 @@ impl FrontEnd {
     /// # Errors
     /// [`CodeFault`] when the code is saturated, out of the converter's range, or the range is
     /// unknown.
-    #[inline]
     pub fn net_code(&self, reading: &Reading) -> Result<i32, CodeFault> {
         let range = self.range(reading.range).ok_or(CodeFault::UnknownRange)?;
         let c = reading.code;
