@@ -63,7 +63,8 @@ impl ThresholdId {
     /// The bit of this threshold in a [`Crossed`] set.
     #[must_use]
     pub const fn bit(self) -> u8 {
-        1 << self.0
+        // Ids are only made by `add_threshold`, below MAX_THRESHOLDS = 6 < 8: never wraps.
+        1u8.wrapping_shl(self.0 as u32)
     }
 }
 
@@ -155,6 +156,13 @@ pub struct Integrator {
     max_gap: u32,
     preload_j_per_m2: f64,
     thresholds: heapless::Vec<Threshold, MAX_THRESHOLDS>,
+    /// [`Integrator::crossed`] as last computed; it stays the answer while
+    /// `band_low <= segment < band_high` (every crossed limit ≤ `band_low`, every other limit
+    /// ≥ `band_high`), so the per-sample path compares against two numbers, not every
+    /// threshold. Refreshed whenever a limit or the threshold list changes.
+    crossed_cache: Crossed,
+    band_low: i64,
+    band_high: i64,
 }
 
 impl Integrator {
@@ -163,7 +171,8 @@ impl Integrator {
     #[must_use]
     pub fn new(meter: &Meter, max_gap: u32) -> Self {
         let mut scale = [0.0; MAX_RANGES];
-        for (i, s) in (0u8..).zip(scale.iter_mut()) {
+        // A bounded index range: `0u8..` could overflow (and panic) as far as the compiler knows.
+        for (i, s) in (0u8..MAX_RANGES as u8).zip(scale.iter_mut()) {
             *s = meter.j_per_m2_per_unit(RangeIndex(i));
         }
         Self {
@@ -175,6 +184,10 @@ impl Integrator {
             max_gap: max_gap.min(i32::MAX as u32),
             preload_j_per_m2: 0.0,
             thresholds: heapless::Vec::new(),
+            // No thresholds: nothing is crossed whatever the segment.
+            crossed_cache: Crossed(0),
+            band_low: i64::MIN,
+            band_high: i64::MAX,
         }
     }
 
@@ -204,12 +217,14 @@ impl Integrator {
         };
         t.limit = self.limit_for(&t);
         self.thresholds.push(t).map_err(|_| level)?;
+        self.refresh_crossed();
         Ok(ThresholdId(id))
     }
 
     /// Stop watching every threshold.
     pub fn clear_thresholds(&mut self) {
         self.thresholds.clear();
+        self.refresh_crossed();
     }
 
     /// Integrate one dark-corrected sample.
@@ -217,7 +232,75 @@ impl Integrator {
     /// # Errors
     /// [`SampleError`] for a repeated or backwards timestamp, a gap, or an unknown range; only
     /// a gap changes the state (integration restarts from this sample).
+    #[inline]
     pub fn accept(&mut self, net: i32, range: RangeIndex, at: Ticks) -> Result<Step, SampleError> {
+        match self.accept_common(net, range, at) {
+            Some(step) => Ok(step),
+            None => self.accept_general(net, range, at),
+        }
+    }
+
+    /// The common case of [`accept`](Self::accept), or `None` — with nothing changed — for
+    /// anything else: the first sample of a run, a timing fault, a range change, a term
+    /// too large for 32 bits, or an overflowing segment. [`accept_general`](Self::accept_general) then handles the sample in full, from
+    /// the same state, so the result is the same either way. A sample that leaves the cache
+    /// band goes to [`leave_band`](Self::leave_band).
+    #[inline(always)]
+    fn accept_common(&mut self, net: i32, range: RangeIndex, at: Ticks) -> Option<Step> {
+        let last = self.last?;
+        // `segment_range` is always a valid range, so this also checks `range`.
+        if range != last.range || range != self.segment_range {
+            return None;
+        }
+        let dt = at.wrapping_since(last.at);
+        // 1 ≤ dt ≤ max_gap (and max_gap ≤ i32::MAX): not repeated, not backwards, no gap.
+        if dt.wrapping_sub(1) >= self.max_gap {
+            return None;
+        }
+        let term = small_trapezoid_term(net, last.net, dt)?;
+        // |term| < 2³¹ and the band lies inside [i64::MIN + 2³¹, i64::MAX − 2³¹], so a
+        // wrapped (overflowed) sum always falls outside the band: no separate overflow check.
+        let segment = self.segment.wrapping_add(i64::from(term));
+        if segment < self.band_low || segment >= self.band_high {
+            return self.leave_band(net, range, at, dt, term);
+        }
+        self.segment = segment;
+        self.last = Some(LastSample { at, net, range });
+        Some(Step {
+            interval: dt,
+            crossed: self.crossed_cache,
+        })
+    }
+
+    /// [`accept_common`](Self::accept_common) when the sample moves the segment out of the
+    /// cache band (a threshold may be crossed or uncrossed): commit it and recompute the
+    /// crossed set. `None`, with nothing changed, if the segment would overflow.
+    #[inline(never)]
+    fn leave_band(
+        &mut self,
+        net: i32,
+        range: RangeIndex,
+        at: Ticks,
+        dt: u32,
+        term: i32,
+    ) -> Option<Step> {
+        self.segment = self.segment.checked_add(i64::from(term))?;
+        self.last = Some(LastSample { at, net, range });
+        self.refresh_crossed();
+        Some(Step {
+            interval: dt,
+            crossed: self.crossed_cache,
+        })
+    }
+
+    /// Every case of [`accept`](Self::accept).
+    #[inline(never)]
+    fn accept_general(
+        &mut self,
+        net: i32,
+        range: RangeIndex,
+        at: Ticks,
+    ) -> Result<Step, SampleError> {
         if usize::from(range.0) >= MAX_RANGES {
             return Err(SampleError::UnknownRange);
         }
@@ -226,7 +309,7 @@ impl Integrator {
             self.last = Some(new);
             return Ok(Step {
                 interval: 0,
-                crossed: self.crossed(),
+                crossed: self.crossed_now(),
             });
         };
         let dt = at.wrapping_since(last.at);
@@ -245,8 +328,7 @@ impl Integrator {
         self.last = Some(new);
         let dt64 = i64::from(dt);
         if range == last.range && range == self.segment_range {
-            // |net + last.net| ≤ 2³² and dt < 2³¹, so the product fits in an i64.
-            let term = (i64::from(net) + i64::from(last.net)) * dt64;
+            let term = trapezoid_term(net, last.net, dt);
             match self.segment.checked_add(term) {
                 Some(s) => self.segment = s,
                 None => {
@@ -264,8 +346,40 @@ impl Integrator {
         }
         Ok(Step {
             interval: dt,
-            crossed: self.crossed(),
+            crossed: self.crossed_now(),
         })
+    }
+
+    /// [`crossed`](Self::crossed) through the cache: two compares while the segment stays
+    /// between the nearest limits, the full scan otherwise. Same result as `crossed()`.
+    #[inline]
+    fn crossed_now(&mut self) -> Crossed {
+        if self.segment < self.band_low || self.segment >= self.band_high {
+            self.refresh_crossed();
+        }
+        self.crossed_cache
+    }
+
+    /// Recompute the crossed set and the band of segment values in which it holds.
+    fn refresh_crossed(&mut self) {
+        let mut bits = 0u8;
+        let mut low = i64::MIN;
+        let mut high = i64::MAX;
+        // At most MAX_THRESHOLDS (6) entries, so the bounded index range covers them all.
+        for (i, t) in (0u8..MAX_THRESHOLDS as u8).zip(self.thresholds.iter()) {
+            if self.segment >= t.limit {
+                // i < MAX_THRESHOLDS = 6 < 8: the shift never wraps.
+                bits |= 1u8.wrapping_shl(u32::from(i));
+                low = low.max(t.limit);
+            } else {
+                high = high.min(t.limit);
+            }
+        }
+        self.crossed_cache = Crossed(bits);
+        // Narrowed by 2³¹ at both ends: a band is still valid when narrower, and this keeps
+        // any overflowed sum in `accept_common` outside it.
+        self.band_low = low.max(BAND_MIN);
+        self.band_high = high.min(BAND_MAX);
     }
 
     /// Forget the previous sample so the next one starts a new run (after a pause or a gap
@@ -284,9 +398,11 @@ impl Integrator {
     #[must_use]
     pub fn crossed(&self) -> Crossed {
         let mut bits = 0u8;
-        for (i, t) in (0u8..).zip(self.thresholds.iter()) {
+        // At most MAX_THRESHOLDS (6) entries, so the bounded index range covers them all.
+        for (i, t) in (0u8..MAX_THRESHOLDS as u8).zip(self.thresholds.iter()) {
             if self.segment >= t.limit {
-                bits |= 1 << i;
+                // i < MAX_THRESHOLDS = 6 < 8: the shift never wraps.
+                bits |= 1u8.wrapping_shl(u32::from(i));
             }
         }
         Crossed(bits)
@@ -382,6 +498,37 @@ impl Integrator {
                 }
             }
         }
+        self.refresh_crossed();
+    }
+}
+
+/// Bounds of the crossed-set cache band (see `refresh_crossed`).
+const BAND_MIN: i64 = i64::MIN + (1 << 31);
+const BAND_MAX: i64 = i64::MAX - (1 << 31);
+
+/// One trapezoid term, `(a + b) · dt`, exactly: |a + b| ≤ 2³² and dt < 2³¹, so the product
+/// always fits in an `i64`.
+fn trapezoid_term(a: i32, b: i32, dt: u32) -> i64 {
+    match small_trapezoid_term(a, b, dt) {
+        Some(t) => i64::from(t),
+        None => (i64::from(a) + i64::from(b)) * i64::from(dt),
+    }
+}
+
+/// `(a + b) · dt` in 32 bits when −2¹⁷ ≤ a + b < 2¹⁷ and dt < 2¹⁴ (converters up to 16 bits at
+/// usual sample spacings), else `None`. One 32-bit multiply: a Cortex-M0 has no 64-bit
+/// multiply instruction and would otherwise call a ~40-instruction routine.
+#[inline(always)]
+fn small_trapezoid_term(a: i32, b: i32, dt: u32) -> Option<i32> {
+    let sum = a.checked_add(b)?;
+    // Bias the sum into 0 ..< 2¹⁸ (as u32): then both range checks are one shift each.
+    let biased = (sum as u32).wrapping_add(1 << 17);
+    if (biased >> 18) | (dt >> 14) == 0 {
+        // |sum| ≤ 2¹⁷ and dt ≤ 2¹⁴ − 1 (so `dt as i32` is exact): |sum · dt| < 2³¹, so the
+        // wrapping multiply never wraps (the compiler cannot see that through the shifts).
+        Some(sum.wrapping_mul(dt as i32))
+    } else {
+        None
     }
 }
 
@@ -593,5 +740,88 @@ mod tests {
         }
         let expected = 6 * 2 * i128::from(big) * i128::from(i32::MAX);
         assert_eq!(i.raw_total(RangeIndex(0)), expected);
+    }
+
+    #[test]
+    fn trapezoid_term_equals_the_wide_product() {
+        let cases = [
+            (0, 0, 1),
+            (0x1FFFF, 0, 0x3FFF),
+            (0x20000, 0, 0x3FFF),
+            (-0x20000, 0, 0x3FFF),
+            (-0x20001, 0, 0x3FFF),
+            (0x10000, 0x0FFFF, 0x3FFF),
+            (0x1FFFF, 0, 0x4000),
+            (-0x1FFFF, -1, 0x3FFF),
+            (-0x10000, 0, 3),
+            (5, 7, u32::MAX),
+            (i32::MAX, i32::MAX, i32::MAX as u32),
+            (i32::MIN, i32::MIN, i32::MAX as u32),
+            (i32::MAX, 1, 2),
+            (1234, -5678, 10),
+        ];
+        for (a, b, dt) in cases {
+            let wide = (i64::from(a) + i64::from(b)) * i64::from(dt);
+            assert_eq!(trapezoid_term(a, b, dt), wide, "{a} {b} {dt}");
+        }
+    }
+
+    #[test]
+    fn cached_crossed_set_matches_a_full_scan_both_ways() {
+        // Signed codes make the integral fall as well as rise, so thresholds are crossed and
+        // uncrossed again; the step's crossed set must always equal the full scan.
+        let mut i = Integrator::new(&meter(), 10_000);
+        for level in [0.02, 0.05, 0.08] {
+            i.add_threshold(RadiantExposure::from_j_per_m2(level), Rounding::NotBefore)
+                .unwrap();
+            i.add_threshold(RadiantExposure::from_j_per_m2(level), Rounding::NotAfter)
+                .unwrap();
+        }
+        let mut x: u32 = 12345;
+        let mut t = 0u32;
+        let mut seen = [false; 2];
+        let mut uncrossed = false;
+        let mut prev = 0u8;
+        for n in 0..5_000 {
+            x = x.wrapping_mul(1_103_515_245).wrapping_add(12_345);
+            let drift = if (n / 500) % 2 == 0 { 3 } else { -4 };
+            let net = ((x >> 16) % 21) as i32 - 10 + drift;
+            t += 1 + (x >> 8) % 5;
+            let range = RangeIndex(u8::from(n % 997 == 0));
+            let s = i.accept(net, range, Ticks(t)).unwrap();
+            assert_eq!(s.crossed, i.crossed(), "sample {n}");
+            seen[usize::from(s.crossed.0 != 0)] = true;
+            uncrossed |= prev & !s.crossed.0 != 0;
+            prev = s.crossed.0;
+        }
+        assert_eq!(seen, [true, true]);
+        assert!(uncrossed, "the walk never fell back below a threshold");
+        i.clear_thresholds();
+        let s = i.accept(1, RangeIndex(0), Ticks(t + 1)).unwrap();
+        assert_eq!(s.crossed, Crossed(0));
+    }
+
+    #[test]
+    fn small_terms_near_the_segment_limit_fold_exactly() {
+        // Bring the open segment close to i64::MAX with large terms, then continue with
+        // terms small enough for the 32-bit path; the total must stay exact across the fold.
+        let mut i = Integrator::new(&meter(), i32::MAX as u32);
+        let big = i32::MAX - 1;
+        let mut expected: i128 = 0;
+        let mut t = 0u32;
+        let mut last = big;
+        i.accept(big, RangeIndex(0), Ticks(t)).unwrap();
+        t = t.wrapping_add(i32::MAX as u32);
+        i.accept(big, RangeIndex(0), Ticks(t)).unwrap();
+        expected += 2 * i128::from(big) * i128::from(i32::MAX);
+        for n in 0..40 {
+            let net = if n == 0 { 0x7FFF } else { 0xFFFF };
+            t = t.wrapping_add(0x3FFF);
+            i.accept(net, RangeIndex(0), Ticks(t)).unwrap();
+            expected += (i128::from(net) + i128::from(last)) * 0x3FFF;
+            last = net;
+            assert_eq!(i.raw_total(RangeIndex(0)), expected, "sample {n}");
+        }
+        assert!(expected > i128::from(i64::MAX));
     }
 }

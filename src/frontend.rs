@@ -183,7 +183,9 @@ impl FrontEnd {
         }
         let mut stored = heapless::Vec::new();
         let mut previous_gain = f64::INFINITY;
-        for (n, r) in (0u8..).zip(ranges.iter()) {
+        // `0u8..` could overflow (and panic) as far as the compiler knows; the loop returns
+        // by the fifth range at the latest (TooManyRanges), long before 255.
+        for (n, r) in (0u8..=u8::MAX).zip(ranges.iter()) {
             let g = r.gain.v_per_a();
             if !g.is_finite() || g <= 0.0 {
                 return Err(FrontEndError::Gain(n));
@@ -254,8 +256,9 @@ impl FrontEnd {
         if c <= self.low_limit {
             return Err(CodeFault::SaturatedLow);
         }
-        // Both values lie within ±2^24, so the difference cannot overflow.
-        Ok(c - range.dark_offset)
+        // Both values lie within the code range (±2^24; the dark offset is validated when set),
+        // so the difference never wraps; `wrapping_sub` only tells the compiler so.
+        Ok(c.wrapping_sub(range.dark_offset))
     }
 
     /// Replace the dark offset of range `r` (after a dark capture). Returns `false` and changes

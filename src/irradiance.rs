@@ -167,7 +167,8 @@ impl Meter {
             }
         }
         let mut w_per_m2_per_code = [0.0; MAX_RANGES];
-        for (i, slot) in (0u8..).zip(w_per_m2_per_code.iter_mut()) {
+        // A bounded index range: `0u8..` could overflow (and panic) as far as the compiler knows.
+        for (i, slot) in (0u8..MAX_RANGES as u8).zip(w_per_m2_per_code.iter_mut()) {
             if let Some(a) = front_end.amps_per_code(RangeIndex(i)) {
                 *slot = a * k.w_per_m2_per_a();
             }
