@@ -866,16 +866,71 @@ impl SamplingPlan {
 pub mod display {
     use core::fmt::Write;
 
-    use heapless::String;
-
     use crate::quantity::Seconds;
     use crate::weighting::UvIndexCategory;
 
     /// Width of a line, characters.
     pub const WIDTH: usize = 16;
 
-    /// A display line.
-    pub type Line = String<WIDTH>;
+    /// A display line of at most [`WIDTH`] ASCII characters; text beyond the width is cut.
+    ///
+    /// (A small buffer of our own rather than `heapless::String`, so that no generic
+    /// container code is instantiated in the library for it.)
+    #[derive(Debug, Clone, Copy, PartialEq, Eq)]
+    pub struct Line {
+        buf: [u8; WIDTH],
+        len: u8,
+    }
+
+    impl Line {
+        /// An empty line.
+        #[must_use]
+        pub const fn new() -> Self {
+            Self {
+                buf: [b' '; WIDTH],
+                len: 0,
+            }
+        }
+        /// The text.
+        #[must_use]
+        pub fn as_str(&self) -> &str {
+            let bytes = self.buf.get(..usize::from(self.len)).unwrap_or(&[]);
+            core::str::from_utf8(bytes).unwrap_or("")
+        }
+        /// Length in characters.
+        #[must_use]
+        pub const fn len(&self) -> usize {
+            self.len as usize
+        }
+        /// Whether the line is empty.
+        #[must_use]
+        pub const fn is_empty(&self) -> bool {
+            self.len == 0
+        }
+        fn push_str(&mut self, s: &str) {
+            for &b in s.as_bytes() {
+                // ASCII only: anything else would break the fixed width of the display.
+                let b = if b.is_ascii() { b } else { b'?' };
+                if let Some(slot) = self.buf.get_mut(usize::from(self.len)) {
+                    *slot = b;
+                    self.len = self.len.saturating_add(1);
+                }
+            }
+        }
+    }
+
+    impl Default for Line {
+        fn default() -> Self {
+            Self::new()
+        }
+    }
+
+    impl Write for Line {
+        fn write_str(&mut self, s: &str) -> core::fmt::Result {
+            self.push_str(s);
+            Ok(())
+        }
+    }
 
     /// `"DOSE  42% 3h07m"`: percent of the limit used (whole percent, rounded up) and time
     /// left (`--` when unlimited at the present level, `STOP` when the limit is used).
@@ -893,10 +948,10 @@ pub mod display {
         let _ = write!(s, "DOSE {pct:>3}% ");
         match time_left {
             None => {
-                let _ = s.push_str("  --");
+                s.push_str("  --");
             }
             Some(t) if t.s() <= 0.0 || pct >= 100 => {
-                let _ = s.push_str("STOP");
+                s.push_str("STOP");
             }
             Some(t) => {
                 // Round down: never show more time than is left.

@@ -311,8 +311,14 @@ const fn align_up(v: u32, to: u32) -> u32 {
     if to == 0 {
         return v;
     }
-    // Callers keep v ≤ 2³¹ and to ≤ 32, so the product does not overflow.
-    v.div_ceil(to) * to
+    // Callers keep v ≤ 2³¹ and to ≤ 32; saturating keeps even a misuse panic-free.
+    let r = v % to;
+    if r == 0 {
+        v
+    } else {
+        // r < to, so the difference is in 1..to.
+        v.saturating_add(to.wrapping_sub(r))
+    }
 }
 
 impl Geometry {
