@@ -1,0 +1,1 @@
+//! explain (to do)

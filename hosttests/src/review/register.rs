@@ -1,0 +1,1 @@
+//! register (to do)
