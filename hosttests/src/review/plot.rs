@@ -68,6 +68,39 @@ fn marker_colour(kind: &str) -> Option<(RGBColor, &'static str)> {
     })
 }
 
+fn marker_colour_by_name(name: &str) -> Option<RGBColor> {
+    [
+        "target_met",
+        "overexposed",
+        "fault",
+        "gap",
+        "saturated_run",
+        "exposure_level_raised",
+    ]
+    .iter()
+    .filter_map(|k| marker_colour(k))
+    .find(|(_, n)| *n == name)
+    .map(|(c, _)| c)
+}
+
+/// A number with at most 4 significant digits, trailing zeros removed.
+fn short(v: f64) -> String {
+    let a = v.abs();
+    if v == 0.0 || !v.is_finite() {
+        return format!("{v}");
+    }
+    if !(1e-3..1e5).contains(&a) {
+        return format!("{v:.2e}");
+    }
+    let decimals = (3 - a.log10().floor() as i32).max(0) as usize;
+    let s = format!("{v:.decimals$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
 fn draw_err<E: std::error::Error>(e: E) -> ReviewError {
     ReviewError::Other(format!("plot: {e}"))
 }
@@ -110,7 +143,11 @@ pub fn render_svg(
         .bins
         .iter()
         .map(|b| b.dose_last * d_k)
-        .fold(over, f64::max);
+        .fold(target, f64::max);
+    // An overexposure level far above everything else would squash the curve: leave it off
+    // the scale and say so in the legend.
+    let over_on_scale = over <= d_max * 1.5;
+    let d_top = if over_on_scale { d_max.max(over) } else { d_max } * 1.08;
 
     let mut svg = String::new();
     {
@@ -138,34 +175,66 @@ pub fn render_svg(
             .map_err(draw_err)?;
         top_chart
             .configure_mesh()
-            .light_line_style(GRID)
+            .light_line_style(TRANSPARENT)
             .bold_line_style(GRID)
+            .x_label_formatter(&|v| short(*v))
+            .y_label_formatter(&|v| short(*v))
             .x_desc(t_label)
             .y_desc(e_label)
             .axis_desc_style(("sans-serif", 16))
             .label_style(("sans-serif", 13))
             .draw()
             .map_err(draw_err)?;
-        let usable = |b: &&super::replay::Bin| !b.e_max.is_nan();
-        let merged = series.shift > 0;
-        if merged {
+        // Gaps (longer than the allowed interval) are shaded and break the lines.
+        for g in &report.timing.gaps {
             top_chart
-                .draw_series(LineSeries::new(
-                    series.bins.iter().filter(usable).map(|b| (t_of(b.t_first), b.e_min * e_k)),
-                    IRRADIANCE_LOW.stroke_width(1),
-                ))
-                .map_err(draw_err)?
-                .label("bucket minimum")
-                .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], IRRADIANCE_LOW));
+                .draw_series(std::iter::once(Rectangle::new(
+                    [(g.start_time_s * t_k, e_min), (g.end_time_s * t_k, e_max * 1.08)],
+                    RGBColor(0x90, 0x90, 0x90).mix(0.25).filled(),
+                )))
+                .map_err(draw_err)?;
         }
-        top_chart
-            .draw_series(LineSeries::new(
-                series.bins.iter().filter(usable).map(|b| (t_of(b.t_first), b.e_max * e_k)),
-                IRRADIANCE.stroke_width(2),
-            ))
-            .map_err(draw_err)?
-            .label(if merged { "bucket maximum" } else { "irradiance" })
-            .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], IRRADIANCE.stroke_width(2)));
+        let max_gap_ticks = (report.configuration.max_gap_s * hz).round() as u64;
+        let mut runs: Vec<Vec<&super::replay::Bin>> = Vec::new();
+        let mut last_t: Option<u64> = None;
+        for b in series.bins.iter().filter(|b| !b.e_max.is_nan()) {
+            if last_t.is_none_or(|t| b.t_first.saturating_sub(t) > max_gap_ticks) {
+                runs.push(Vec::new());
+            }
+            if let Some(r) = runs.last_mut() {
+                r.push(b);
+            }
+            last_t = Some(b.t_last);
+        }
+        let merged = series.shift > 0;
+        for (i, run) in runs.iter().enumerate() {
+            if merged {
+                let drawn = top_chart
+                    .draw_series(LineSeries::new(
+                        run.iter().map(|b| (t_of(b.t_first), b.e_min * e_k)),
+                        IRRADIANCE_LOW.stroke_width(1),
+                    ))
+                    .map_err(draw_err)?;
+                if i == 0 {
+                    drawn.label("bucket minimum").legend(|(x, y)| {
+                        PathElement::new(vec![(x, y), (x + 18, y)], IRRADIANCE_LOW)
+                    });
+                }
+            }
+            let drawn = top_chart
+                .draw_series(LineSeries::new(
+                    run.iter().map(|b| (t_of(b.t_first), b.e_max * e_k)),
+                    IRRADIANCE.stroke_width(2),
+                ))
+                .map_err(draw_err)?;
+            if i == 0 {
+                drawn
+                    .label(if merged { "bucket maximum" } else { "irradiance" })
+                    .legend(|(x, y)| {
+                        PathElement::new(vec![(x, y), (x + 18, y)], IRRADIANCE.stroke_width(2))
+                    });
+            }
+        }
         top_chart
             .configure_series_labels()
             .position(SeriesLabelPosition::UpperRight)
@@ -180,12 +249,14 @@ pub fn render_svg(
             .margin_left(20)
             .x_label_area_size(42)
             .y_label_area_size(78)
-            .build_cartesian_2d(x0..x1, 0.0..(d_max * 1.08).max(1e-12))
+            .build_cartesian_2d(x0..x1, 0.0..d_top.max(1e-12))
             .map_err(draw_err)?;
         chart
             .configure_mesh()
-            .light_line_style(GRID)
+            .light_line_style(TRANSPARENT)
             .bold_line_style(GRID)
+            .x_label_formatter(&|v| short(*v))
+            .y_label_formatter(&|v| short(*v))
             .x_desc(t_label)
             .y_desc(d_label)
             .axis_desc_style(("sans-serif", 16))
@@ -208,21 +279,25 @@ pub fn render_svg(
                 TARGET.stroke_width(2),
             ))
             .map_err(draw_err)?
-            .label(format!("target {}", super::report::sig(target)))
+            .label(format!("target {}", short(target)))
             .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], TARGET.stroke_width(2)));
+        let over_points = if over_on_scale {
+            vec![(x0, over), (x1, over)]
+        } else {
+            Vec::new()
+        };
         chart
-            .draw_series(DashedLineSeries::new(
-                vec![(x0, over), (x1, over)],
-                3,
-                4,
-                OVER.stroke_width(2),
-            ))
+            .draw_series(DashedLineSeries::new(over_points, 3, 4, OVER.stroke_width(2)))
             .map_err(draw_err)?
-            .label(format!("target + tolerance {}", super::report::sig(over)))
+            .label(if over_on_scale {
+                format!("target + tolerance {}", short(over))
+            } else {
+                format!("target + tolerance {} (off scale)", short(over))
+            })
             .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], OVER.stroke_width(2)));
 
         // Events: a marker on the dose curve, one legend entry per kind.
-        let mut seen: Vec<&str> = Vec::new();
+        let mut seen: Vec<&'static str> = Vec::new();
         let dose_at = |t_s: f64| {
             let ticks = ((t_s - origin) * hz).max(0.0) as u64;
             let i = series.bins.partition_point(|b| b.t_last < ticks);
@@ -232,6 +307,8 @@ pub fn render_svg(
                 .or(series.bins.last())
                 .map_or(0.0, |b| b.dose_last * d_k)
         };
+        // Events close together (within 1.5 % of the time axis) share one label.
+        let mut marks: Vec<(f64, f64, RGBColor, Vec<&'static str>)> = Vec::new();
         for e in report.events.iter().take(200) {
             let Some((colour, name)) = marker_colour(&e.kind) else {
                 continue;
@@ -241,22 +318,13 @@ pub fn render_svg(
                 ("target_met", Some(h)) => h * d_k,
                 _ => dose_at(e.time_s),
             };
-            let series_pts = chart
-                .draw_series(std::iter::once(
-                    EmptyElement::at((x, y))
-                        + TriangleMarker::new((0, 0), 9, colour.filled())
-                        + Text::new(
-                            name.to_string(),
-                            (8, -18),
-                            ("sans-serif", 13).into_font().color(&colour),
-                        ),
-                ))
-                .map_err(draw_err)?;
-            if !seen.contains(&name) {
-                seen.push(name);
-                series_pts
-                    .label(name)
-                    .legend(move |(x, y)| TriangleMarker::new((x + 9, y), 6, colour.filled()));
+            let near = marks
+                .last_mut()
+                .filter(|m| (x - m.0).abs() < 0.015 * (x1 - x0));
+            match near {
+                Some(m) if !m.3.contains(&name) => m.3.push(name),
+                Some(_) => {}
+                None => marks.push((x, y, colour, vec![name])),
             }
             // A thin vertical line in the irradiance panel.
             top_chart
@@ -267,6 +335,38 @@ pub fn render_svg(
                     colour.mix(0.7).stroke_width(1),
                 ))
                 .map_err(draw_err)?;
+        }
+        for (n, (x, y, colour, names)) in marks.iter().enumerate() {
+            let label = names.join(", ");
+            // Labels near the right edge go to the left of the marker; alternate heights.
+            let width = 7 * label.chars().count() as i32;
+            let dx = if *x > x0 + 0.75 * (x1 - x0) { -width - 8 } else { 8 };
+            let dy = if n % 2 == 0 { -20 } else { -36 };
+            chart
+                .draw_series(std::iter::once(
+                    EmptyElement::at((*x, *y))
+                        + TriangleMarker::new((0, 0), 9, colour.filled())
+                        + Text::new(
+                            label.clone(),
+                            (dx, dy),
+                            ("sans-serif", 13).into_font().color(colour),
+                        ),
+                ))
+                .map_err(draw_err)?;
+            for name in names {
+                if !seen.contains(name) {
+                    seen.push(name);
+                }
+            }
+        }
+        // One legend entry per kind of event.
+        for name in seen {
+            let c = marker_colour_by_name(name).unwrap_or(BLACK);
+            chart
+                .draw_series(std::iter::empty::<Circle<(f64, f64), i32>>())
+                .map_err(draw_err)?
+                .label(name)
+                .legend(move |(x, y)| TriangleMarker::new((x + 9, y), 6, c.filled()));
         }
         chart
             .configure_series_labels()
