@@ -146,7 +146,6 @@ impl<R: Read> SampleReader<R> {
         let mut rdr = csv::ReaderBuilder::new()
             .has_headers(true)
             .flexible(false)
-            .trim(csv::Trim::All)
             .comment(Some(b'#'))
             .buffer_capacity(1 << 16)
             .from_reader(input);
@@ -173,7 +172,7 @@ impl<R: Read> SampleReader<R> {
         let mut temperature = None;
         for (i, name) in header.iter().enumerate() {
             let col = Some(i as u64 + 1);
-            let name = std::str::from_utf8(name).unwrap_or("");
+            let name = std::str::from_utf8(name.trim_ascii()).unwrap_or("");
             let duplicate = match name {
                 "time_s" | "time_ticks" => {
                     let unit = if name == "time_s" {
@@ -313,7 +312,7 @@ impl<R: Read> SampleReader<R> {
     }
 
     fn text(&self, line: u64, i: usize) -> Result<&str, ReviewError> {
-        let raw = self.record.get(i).unwrap_or(b"");
+        let raw = self.record.get(i).unwrap_or(b"").trim_ascii();
         let s = std::str::from_utf8(raw)
             .map_err(|_| self.bad(line, i, "not valid UTF-8".to_string()))?;
         if s.is_empty() {
@@ -332,9 +331,14 @@ impl<R: Read> SampleReader<R> {
     }
 
     fn integer(&self, line: u64, i: usize) -> Result<i64, ReviewError> {
-        let s = self.text(line, i)?;
-        s.parse::<i64>()
-            .map_err(|_| self.bad(line, i, format!("`{s}` is not an integer")))
+        let raw = self.record.get(i).unwrap_or(b"").trim_ascii();
+        match parse_int(raw) {
+            Some(v) => Ok(v),
+            None => {
+                let s = self.text(line, i)?;
+                Err(self.bad(line, i, format!("`{s}` is not an integer")))
+            }
+        }
     }
 
     /// The next sample, `None` at the end of the file.
@@ -459,6 +463,44 @@ impl<R: Read> SampleReader<R> {
             line,
             temperature_c,
         }))
+    }
+}
+
+/// A decimal integer with an optional sign, straight from ASCII bytes (the hot path of a
+/// CSV of codes and ticks). `None` for anything else or on overflow.
+fn parse_int(b: &[u8]) -> Option<i64> {
+    let (neg, digits) = match b.split_first() {
+        Some((b'-', rest)) => (true, rest),
+        Some((b'+', rest)) => (false, rest),
+        _ => (false, b),
+    };
+    if digits.is_empty() || digits.len() > 18 {
+        return None;
+    }
+    let mut v: i64 = 0;
+    for &c in digits {
+        let d = c.wrapping_sub(b'0');
+        if d > 9 {
+            return None;
+        }
+        // At most 18 digits: no overflow.
+        v = v * 10 + i64::from(d);
+    }
+    Some(if neg { -v } else { v })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::parse_int;
+
+    #[test]
+    fn integers_from_bytes() {
+        assert_eq!(parse_int(b"0"), Some(0));
+        assert_eq!(parse_int(b"-42"), Some(-42));
+        assert_eq!(parse_int(b"+4294967295"), Some(4_294_967_295));
+        for bad in [&b""[..], b"-", b"1.5", b"12a", b"1e3", b"1234567890123456789"] {
+            assert_eq!(parse_int(bad), None, "{bad:?}");
+        }
     }
 }
 
