@@ -58,7 +58,11 @@ fn readings(n: usize) -> Vec<Reading> {
 }
 
 fn rate(n: u64, s: f64) -> String {
-    format!("{:>7.2} M samples/s ({:.2} ns/sample)", n as f64 / s / 1e6, s / n as f64 * 1e9)
+    format!(
+        "{:>7.2} M samples/s ({:.2} ns/sample)",
+        n as f64 / s / 1e6,
+        s / n as f64 * 1e9
+    )
 }
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
@@ -79,7 +83,10 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     }
     let t_session = t0.elapsed().as_secs_f64();
     let h_session = session.progress().exposure.j_per_m2();
-    println!("  pipeline (Session::on_reading), in memory:        {}", rate(n as u64, t_session));
+    println!(
+        "  pipeline (Session::on_reading), in memory:        {}",
+        rate(n as u64, t_session)
+    );
 
     // 2. The tool's replay engine on the same samples.
     let mut t_abs = 0u64;
@@ -90,7 +97,12 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         .map(|(i, r)| {
             t_abs += u64::from(r.at.wrapping_since(prev));
             prev = r.at;
-            Sample { reading: *r, t_abs, line: i as u64 + 2, temperature_c: f32::NAN }
+            Sample {
+                reading: *r,
+                t_abs,
+                line: i as u64 + 2,
+                temperature_c: f32::NAN,
+            }
         })
         .collect();
     drop(rs);
@@ -101,10 +113,17 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     }
     let t_engine = t0.elapsed().as_secs_f64();
     let h_engine = replayer.session().progress().exposure.j_per_m2();
-    println!("  replay engine (session + stats + events), memory: {}", rate(n as u64, t_engine));
+    println!(
+        "  replay engine (session + stats + events), memory: {}",
+        rate(n as u64, t_engine)
+    );
     println!(
         "  same dose both ways: {} ({h_session} J/m²)",
-        if h_session.to_bits() == h_engine.to_bits() { "yes, bit-identical" } else { "NO" }
+        if h_session.to_bits() == h_engine.to_bits() {
+            "yes, bit-identical"
+        } else {
+            "NO"
+        }
     );
 
     // 3. End to end from a CSV file.
@@ -115,7 +134,11 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         let mut w = std::io::BufWriter::new(std::fs::File::create(&path)?);
         writeln!(w, "time_ticks,adc_code,range")?;
         for s in samples.iter().take(n_file) {
-            writeln!(w, "{},{},{}", s.reading.at.0, s.reading.code, s.reading.range.0)?;
+            writeln!(
+                w,
+                "{},{},{}",
+                s.reading.at.0, s.reading.code, s.reading.range.0
+            )?;
         }
     }
     drop(samples);
@@ -124,7 +147,9 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
 
     // 3a. The CSV parse alone (the csv crate, no conversion, no pipeline).
     let t0 = Instant::now();
-    let mut rdr = csv::ReaderBuilder::new().buffer_capacity(1 << 16).from_path(&path)?;
+    let mut rdr = csv::ReaderBuilder::new()
+        .buffer_capacity(1 << 16)
+        .from_path(&path)?;
     let mut rec = csv::ByteRecord::new();
     let mut rows = 0u64;
     while rdr.read_byte_record(&mut rec)? {
@@ -150,8 +175,16 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     std::fs::remove_dir_all(&dir)?;
     println!(
         "  goals: >= 20 M/s in memory ({}), >= 2 M/s from CSV ({})",
-        if (n as f64 / t_engine) >= 20e6 { "met" } else { "NOT met" },
-        if (out.report.input.rows as f64 / t_file) >= 2e6 { "met" } else { "NOT met" }
+        if (n as f64 / t_engine) >= 20e6 {
+            "met"
+        } else {
+            "NOT met"
+        },
+        if (out.report.input.rows as f64 / t_file) >= 2e6 {
+            "met"
+        } else {
+            "NOT met"
+        }
     );
     Ok(())
 }

@@ -18,7 +18,10 @@ fn examples() -> PathBuf {
 }
 
 fn run(args: &[&str]) -> Output {
-    Command::new(BIN).args(args).output().expect("the tool runs")
+    Command::new(BIN)
+        .args(args)
+        .output()
+        .expect("the tool runs")
 }
 
 fn stdout(o: &Output) -> String {
@@ -135,7 +138,10 @@ fn replay_is_bit_identical_to_the_library_used_directly() {
     assert_eq!(report.outcome.target_reached_line, target_line);
     // Bit for bit, in every unit.
     let d = &report.dose;
-    assert_eq!(d.radiant_exposure_j_per_m2.to_bits(), p.exposure.j_per_m2().to_bits());
+    assert_eq!(
+        d.radiant_exposure_j_per_m2.to_bits(),
+        p.exposure.j_per_m2().to_bits()
+    );
     assert_eq!(
         d.photon_exposure_mol_per_m2.to_bits(),
         p.photon_exposure.mol_per_m2().to_bits()
@@ -149,17 +155,15 @@ fn replay_is_bit_identical_to_the_library_used_directly() {
         .map(|r| session.integrator().raw_total(RangeIndex(r)).to_string())
         .collect();
     assert_eq!(d.raw_totals_code_ticks_x2, raw);
-    assert!(raw.iter().all(|v| v != "0"), "both ranges were used: {raw:?}");
+    assert!(
+        raw.iter().all(|v| v != "0"),
+        "both ranges were used: {raw:?}"
+    );
 
     // And through the tool's library functions in-process.
     let cfg = config::load(s(&examples().join("photoreactor.toml"))).unwrap();
-    let out = replay::replay_file(
-        &cfg,
-        s(&examples().join("photoreactor.csv")),
-        false,
-        false,
-    )
-    .unwrap();
+    let out =
+        replay::replay_file(&cfg, s(&examples().join("photoreactor.csv")), false, false).unwrap();
     assert_eq!(out.report.dose, report.dose);
 }
 
@@ -184,7 +188,12 @@ fn replay_prints_text_and_writes_json_and_text_files() {
     assert_eq!(stderr(&o), "");
     let printed = stdout(&o);
     assert_eq!(printed, std::fs::read_to_string(&text).unwrap());
-    for needle in ["stop reason        target_met", "photons to area", "J/m²", "mJ/cm²"] {
+    for needle in [
+        "stop reason        target_met",
+        "photons to area",
+        "J/m²",
+        "mJ/cm²",
+    ] {
         assert!(printed.contains(needle), "{needle} missing from\n{printed}");
     }
     let report: Report = serde_json::from_str(&std::fs::read_to_string(&json).unwrap()).unwrap();
@@ -251,16 +260,23 @@ fn simulate_writes_each_scenario_and_replays_to_its_outcome() {
         let o = run(&["simulate", name, "-o", s(&csv), "--config-out", s(&toml)]);
         assert!(o.status.success(), "{}", stderr(&o));
         let cfg = config::load(s(&toml)).unwrap();
-        let r = replay::replay_file(&cfg, s(&csv), false, false).unwrap().report;
+        let r = replay::replay_file(&cfg, s(&csv), false, false)
+            .unwrap()
+            .report;
         assert_eq!(r.outcome.stop_reason, stop, "{name}");
         assert_eq!(r.outcome.fault.as_deref(), fault, "{name}");
         assert!(r.outcome.target_reached, "{name}");
     }
     // The logger: a 90 s dropout is a gap, charged by the exposure monitor.
     let cfg = config::load(s(&dir.path().join("uv-logger-dropout.toml"))).unwrap();
-    let r = replay::replay_file(&cfg, s(&dir.path().join("uv-logger-dropout.csv")), false, false)
-        .unwrap()
-        .report;
+    let r = replay::replay_file(
+        &cfg,
+        s(&dir.path().join("uv-logger-dropout.csv")),
+        false,
+        false,
+    )
+    .unwrap()
+    .report;
     assert_eq!(r.timing.gaps.len(), 1);
     assert_eq!(r.timing.gaps[0].length_s, 91.0);
     let x = r.exposure.unwrap();
@@ -268,9 +284,14 @@ fn simulate_writes_each_scenario_and_replays_to_its_outcome() {
     assert!(r.solar.unwrap().erythemal_exposure_sed > 0.0);
     // The curing device's 32-bit tick counter wraps during the run: no backwards time.
     let cfg = config::load(s(&dir.path().join("curing-stuck-shutter.toml"))).unwrap();
-    let r = replay::replay_file(&cfg, s(&dir.path().join("curing-stuck-shutter.csv")), false, false)
-        .unwrap()
-        .report;
+    let r = replay::replay_file(
+        &cfg,
+        s(&dir.path().join("curing-stuck-shutter.csv")),
+        false,
+        false,
+    )
+    .unwrap()
+    .report;
     assert_eq!(r.timing.interval_max_s, Some(0.001));
     // An unknown scenario is an error.
     let o = run(&["simulate", "no-such-scenario"]);
@@ -289,7 +310,9 @@ fn simulated_closed_loop_equals_its_replay() {
     let p = dir.path().join("s.csv");
     std::fs::write(&p, &csv).unwrap();
     let cfg = simulate::scenario_config(sc).unwrap();
-    let a = replay::replay_file(&cfg, s(&p), false, false).unwrap().report;
+    let a = replay::replay_file(&cfg, s(&p), false, false)
+        .unwrap()
+        .report;
     assert_eq!(a.outcome.stop_reason, "target_met");
     // The shipped example was written by this scenario with the default seed.
     assert_eq!(csv.lines().count(), shipped.lines().count());
@@ -297,7 +320,12 @@ fn simulated_closed_loop_equals_its_replay() {
 
 #[test]
 fn explain_prints_the_derived_factors() {
-    let o = run(&["explain", "-c", s(&examples().join("photoreactor.toml")), "--json"]);
+    let o = run(&[
+        "explain",
+        "-c",
+        s(&examples().join("photoreactor.toml")),
+        "--json",
+    ]);
     assert!(o.status.success(), "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
     let find = |section: &str, name: &str, unit: &str| {
@@ -324,15 +352,29 @@ fn explain_prints_the_derived_factors() {
     let units = find("range 1", "target in integer units", "code·tick×2");
     assert!((units * unit / t - 1.0).abs() < 1e-12);
     assert!(find("band", "photons per radiant energy", "µmol/J") > 405.0 * 0.008_359_347_229);
-    let text = stdout(&run(&["explain", "-c", s(&examples().join("photoreactor.toml"))]));
-    assert!(text.contains("[range 0]") && text.contains("µmol/J"), "{text}");
+    let text = stdout(&run(&[
+        "explain",
+        "-c",
+        s(&examples().join("photoreactor.toml")),
+    ]));
+    assert!(
+        text.contains("[range 0]") && text.contains("µmol/J"),
+        "{text}"
+    );
 }
 
 fn replay_to_json(dir: &Path, scenario: &str, extra: &[&str]) -> PathBuf {
     let csv = dir.join(format!("{scenario}.csv"));
     let toml = dir.join(format!("{scenario}.toml"));
     if !csv.exists() {
-        let o = run(&["simulate", scenario, "-o", s(&csv), "--config-out", s(&toml)]);
+        let o = run(&[
+            "simulate",
+            scenario,
+            "-o",
+            s(&csv),
+            "--config-out",
+            s(&toml),
+        ]);
         assert!(o.status.success(), "{}", stderr(&o));
     }
     let json = dir.join(format!("{scenario}{}.json", extra.len()));
@@ -351,15 +393,36 @@ fn register_imports_idempotently_and_answers_questions() {
     let b = replay_to_json(dir.path(), "curing-stuck-shutter", &[]);
     let c = replay_to_json(dir.path(), "uv-logger-dropout", &[]);
     // The same logger run, relabelled as a second day of the same person.
-    let d = replay_to_json(dir.path(), "uv-logger-dropout", &["--start-utc", "2025-06-22T09:00:00Z"]);
+    let d = replay_to_json(
+        dir.path(),
+        "uv-logger-dropout",
+        &["--start-utc", "2025-06-22T09:00:00Z"],
+    );
 
     let o = run(&["register", "import", "--db", s(&db), s(&a), s(&b), s(&c)]);
     assert!(o.status.success(), "{}", stderr(&o));
-    assert!(stdout(&o).contains("3 added, 0 already present, 3 sessions"), "{}", stdout(&o));
+    assert!(
+        stdout(&o).contains("3 added, 0 already present, 3 sessions"),
+        "{}",
+        stdout(&o)
+    );
     // Importing the same reports again adds nothing.
-    let o = run(&["register", "import", "--db", s(&db), s(&a), s(&b), s(&c), s(&d)]);
+    let o = run(&[
+        "register",
+        "import",
+        "--db",
+        s(&db),
+        s(&a),
+        s(&b),
+        s(&c),
+        s(&d),
+    ]);
     assert!(o.status.success(), "{}", stderr(&o));
-    assert!(stdout(&o).contains("1 added, 3 already present, 4 sessions"), "{}", stdout(&o));
+    assert!(
+        stdout(&o).contains("1 added, 3 already present, 4 sessions"),
+        "{}",
+        stdout(&o)
+    );
 
     // The questions, through the library functions on the real file.
     let r = Register::open(s(&db)).unwrap();
@@ -390,13 +453,17 @@ fn register_imports_idempotently_and_answers_questions() {
         .filter(|d| d.group.as_deref() == Some("field-staff-04"))
         .collect();
     assert_eq!(person.len(), 2);
-    assert!(person.iter().all(|d| d.effective_exposure_j_per_m2.unwrap() > 30.0));
+    assert!(person
+        .iter()
+        .all(|d| d.effective_exposure_j_per_m2.unwrap() > 30.0));
     let by_reactor = r.dose_per_day(Grouping::Reactor).unwrap();
     assert!(by_reactor.iter().any(|d| d.group.as_deref() == Some("R2")));
 
     let faults = r.fault_sessions().unwrap();
     assert_eq!(faults.len(), 2);
-    assert!(faults.iter().all(|f| f.fault == "gap" && f.device_id.as_deref() == Some("uv-logger-12")));
+    assert!(faults
+        .iter()
+        .all(|f| f.fault == "gap" && f.device_id.as_deref() == Some("uv-logger-12")));
 
     let limits = r.limit_days().unwrap();
     let l: Vec<(&str, Option<&str>, &str)> = limits
@@ -454,7 +521,9 @@ fn register_daily_sum_over_sessions_counts_against_the_limit() {
         limit_reached: false,
         erythemal_exposure_sed: None,
     };
-    let stats = r.import(&[session("a", 8, 20.0), session("b", 13, 12.0)]).unwrap();
+    let stats = r
+        .import(&[session("a", 8, 20.0), session("b", 13, 12.0)])
+        .unwrap();
     assert_eq!((stats.added, stats.already_present), (2, 0));
     let l = r.limit_days().unwrap();
     assert_eq!(l.len(), 1);
@@ -475,7 +544,17 @@ fn bad_replay(config: &str, samples: &str) -> String {
     let json = dir.path().join("out.json");
     std::fs::write(&c, config).unwrap();
     std::fs::write(&d, samples).unwrap();
-    let o = run(&["replay", "-c", s(&c), "-s", s(&d), "--json", s(&json), "--plot", s(&dir.path().join("p.svg"))]);
+    let o = run(&[
+        "replay",
+        "-c",
+        s(&c),
+        "-s",
+        s(&d),
+        "--json",
+        s(&json),
+        "--plot",
+        s(&dir.path().join("p.svg")),
+    ]);
     assert!(!o.status.success(), "accepted:\n{}", stdout(&o));
     assert_eq!(o.status.code(), Some(1));
     assert!(!json.exists(), "a report was written");
@@ -511,7 +590,10 @@ fn bad_csv_is_rejected_with_line_and_column() {
         (
             "non-numeric",
             "time_s,adc_code,range\n0.05,100,1\n0.10,abc,1\n",
-            &["d.csv: line 3, column 2 (adc_code)", "`abc` is not an integer"],
+            &[
+                "d.csv: line 3, column 2 (adc_code)",
+                "`abc` is not an integer",
+            ],
         ),
         (
             "NaN",
@@ -526,18 +608,18 @@ fn bad_csv_is_rejected_with_line_and_column() {
         (
             "truncated file",
             "time_s,adc_code,range\n0.05,100,1\n0.10,100,1\n0.15,10",
-            &["d.csv: line 4, column 3", "2 fields where the header has 3", "truncated"],
+            &[
+                "d.csv: line 4, column 3",
+                "2 fields where the header has 3",
+                "truncated",
+            ],
         ),
         (
             "no samples",
             "time_s,adc_code,range\n",
             &["d.csv: line 2", "no samples"],
         ),
-        (
-            "empty file",
-            "",
-            &["d.csv: line 1", "empty file"],
-        ),
+        ("empty file", "", &["d.csv: line 1", "empty file"]),
     ];
     for (what, csv, needles) in cases {
         let e = bad_replay(&cfg, csv);
@@ -547,9 +629,15 @@ fn bad_csv_is_rejected_with_line_and_column() {
     }
     // Ticks going backwards (beyond a wrap), a range that is not a number, a current as NaN.
     let e = bad_replay(&cfg, "time_ticks,adc_code\n4294967290,100\n5,100\n3,100\n");
-    assert!(e.contains("line 4, column 1 (time_ticks)") && e.contains("backwards"), "{e}");
+    assert!(
+        e.contains("line 4, column 1 (time_ticks)") && e.contains("backwards"),
+        "{e}"
+    );
     let e = bad_replay(&cfg, "time_s,current_a,range\n0.05,1e-6,0\n0.1,inf,0\n");
-    assert!(e.contains("line 3, column 2 (current_a)") && e.contains("not a finite"), "{e}");
+    assert!(
+        e.contains("line 3, column 2 (current_a)") && e.contains("not a finite"),
+        "{e}"
+    );
     let e = bad_replay(&cfg, "time_s,adc_code,range\n0.05,100,-1\n");
     assert!(e.contains("line 2, column 3 (range)"), "{e}");
 }
@@ -574,12 +662,21 @@ fn bad_toml_is_rejected_with_line_column_and_key() {
     // A value the library rejects names its key and place.
     let e = bad_replay(&good.replace("bits = 12", "bits = 7"), &csv);
     let l = line_of("bits = 12");
-    assert!(e.contains(&format!("c.toml: line {l}, column 8 (adc.bits)")), "{e}");
+    assert!(
+        e.contains(&format!("c.toml: line {l}, column 8 (adc.bits)")),
+        "{e}"
+    );
     assert!(e.contains("8 to 24 bits"), "{e}");
 
     // A wrong type.
-    let e = bad_replay(&good.replace("reference_v = 3.3", "reference_v = \"3.3\""), &csv);
-    assert!(e.contains(&format!("line {}", line_of("reference_v"))), "{e}");
+    let e = bad_replay(
+        &good.replace("reference_v = 3.3", "reference_v = \"3.3\""),
+        &csv,
+    );
+    assert!(
+        e.contains(&format!("line {}", line_of("reference_v"))),
+        "{e}"
+    );
 
     // Two dose keys for one target.
     let e = bad_replay(
@@ -589,11 +686,17 @@ fn bad_toml_is_rejected_with_line_column_and_key() {
         ),
         &csv,
     );
-    assert!(e.contains("(session.target)") && e.contains("exactly one dose key"), "{e}");
+    assert!(
+        e.contains("(session.target)") && e.contains("exactly one dose key"),
+        "{e}"
+    );
 
     // Photons without an area.
     let e = bad_replay(&good.replace("sample_area_cm2 = 4.0", ""), &csv);
-    assert!(e.contains("(session.target)") && e.contains("sample_area_cm2"), "{e}");
+    assert!(
+        e.contains("(session.target)") && e.contains("sample_area_cm2"),
+        "{e}"
+    );
 
     // A syntax error (a truncated file).
     let cut = &good[..good.find("max_gap_ticks").unwrap() + 10];

@@ -12,8 +12,12 @@ use hosttests::review::register::{Grouping, Register};
 use hosttests::review::{config, explain, plot, replay, simulate, time, ReviewError};
 
 #[derive(Parser)]
-#[command(name = "photon-review", version, about = "Review photon-ledger dose runs on a PC: \
-    replay samples through the firmware pipeline, plot, simulate, explain, register exposures")]
+#[command(
+    name = "photon-review",
+    version,
+    about = "Review photon-ledger dose runs on a PC: \
+    replay samples through the firmware pipeline, plot, simulate, explain, register exposures"
+)]
 struct Cli {
     #[command(subcommand)]
     command: Command,
@@ -250,7 +254,11 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
                 ))
             })?;
             let csv = simulate::simulate(s, seed)?;
-            let rows = csv.lines().filter(|l| !l.starts_with('#')).count().saturating_sub(1);
+            let rows = csv
+                .lines()
+                .filter(|l| !l.starts_with('#'))
+                .count()
+                .saturating_sub(1);
             match &csv_out {
                 Some(p) => {
                     write_atomic(p, csv.as_bytes())?;
@@ -308,7 +316,8 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
                             opt(&d.group),
                             d.sessions,
                             hosttests::review::report::sig(d.radiant_exposure_j_per_m2),
-                            d.photons_mol.map_or("-".into(), |m| hosttests::review::report::sig(m * 1e6)),
+                            d.photons_mol
+                                .map_or("-".into(), |m| hosttests::review::report::sig(m * 1e6)),
                             d.effective_exposure_j_per_m2
                                 .map_or("-".into(), hosttests::review::report::sig),
                         ));

@@ -373,7 +373,10 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
         reference: Voltage::from_v(*a.reference_v.get_ref()),
         pga_gain: a.pga_gain.as_ref().map_or(1.0, |g| *g.get_ref()),
         coding,
-        saturation_margin: a.saturation_margin_codes.as_ref().map_or(0, |m| *m.get_ref()),
+        saturation_margin: a
+            .saturation_margin_codes
+            .as_ref()
+            .map_or(0, |m| *m.get_ref()),
     };
     let ranges: Vec<AmplifierRange> = raw
         .ranges
@@ -385,13 +388,16 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
         })
         .collect();
     let range_span = |n: u8, dark: bool| {
-        raw.ranges.get_ref().get(usize::from(n)).map_or(raw.ranges.span(), |r| {
-            if dark {
-                r.get_ref().dark_offset_codes.span()
-            } else {
-                r.get_ref().transimpedance_ohm.span()
-            }
-        })
+        raw.ranges
+            .get_ref()
+            .get(usize::from(n))
+            .map_or(raw.ranges.span(), |r| {
+                if dark {
+                    r.get_ref().dark_offset_codes.span()
+                } else {
+                    r.get_ref().transimpedance_ohm.span()
+                }
+            })
     };
     let front_end = FrontEnd::new(adc, &ranges).map_err(|e| {
         let (span, key) = match e {
@@ -428,23 +434,25 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
 
     // [calibration]
     let c = raw.calibration.get_ref();
-    let calibration = match (&c.responsivity_a_per_w, &c.active_area_mm2, &c.factor_w_per_m2_per_a)
-    {
-        (Some(r), Some(area), None) => Calibration::Responsivity {
-            responsivity: Responsivity::from_a_per_w(*r.get_ref()),
-            active_area: Area::from_mm2(*area.get_ref()),
-        },
-        (None, None, Some(k)) => {
-            Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(*k.get_ref()))
-        }
-        _ => {
-            return Err(ctx.err(
+    let calibration =
+        match (
+            &c.responsivity_a_per_w,
+            &c.active_area_mm2,
+            &c.factor_w_per_m2_per_a,
+        ) {
+            (Some(r), Some(area), None) => Calibration::Responsivity {
+                responsivity: Responsivity::from_a_per_w(*r.get_ref()),
+                active_area: Area::from_mm2(*area.get_ref()),
+            },
+            (None, None, Some(k)) => {
+                Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(*k.get_ref()))
+            }
+            _ => return Err(ctx.err(
                 raw.calibration.span(),
                 "calibration",
                 "give either responsivity_a_per_w and active_area_mm2, or factor_w_per_m2_per_a",
-            ))
-        }
-    };
+            )),
+        };
 
     // [band]
     let b = raw.band.get_ref();
@@ -578,10 +586,16 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
                         (xe.window_s.span(), "exposure.window_s")
                     }
                     ExposureConfigError::WindowTooLong => (xe.window_s.span(), "exposure.window_s"),
-                    ExposureConfigError::Limit => (xe.limit_j_per_m2.span(), "exposure.limit_j_per_m2"),
+                    ExposureConfigError::Limit => {
+                        (xe.limit_j_per_m2.span(), "exposure.limit_j_per_m2")
+                    }
                     ExposureConfigError::WarningLevels => (xe.levels.span(), "exposure.levels"),
-                    ExposureConfigError::Hysteresis => (xe.hysteresis.span(), "exposure.hysteresis"),
-                    ExposureConfigError::MaxGap => (s.max_gap_ticks.span(), "session.max_gap_ticks"),
+                    ExposureConfigError::Hysteresis => {
+                        (xe.hysteresis.span(), "exposure.hysteresis")
+                    }
+                    ExposureConfigError::MaxGap => {
+                        (s.max_gap_ticks.span(), "session.max_gap_ticks")
+                    }
                     ExposureConfigError::Scale | ExposureConfigError::AveragingPeriod => {
                         (xe.weight_factor.span(), "exposure.weight_factor")
                     }
@@ -638,21 +652,32 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
     })
 }
 
+/// A dose key, its value if given, and how it becomes a library dose.
+type DoseCandidate<'a> = (&'static str, &'a Option<S<f64>>, fn(f64) -> DoseAmount);
+
 fn dose(ctx: &Ctx<'_>, d: &S<DoseToml>, key: &str) -> Result<GivenDose, ReviewError> {
     let t = d.get_ref();
-    let candidates: [(&'static str, &Option<S<f64>>, fn(f64) -> DoseAmount); 6] = [
-        ("radiant_exposure_j_per_m2", &t.radiant_exposure_j_per_m2, |v| {
-            DoseAmount::RadiantExposure(RadiantExposure::from_j_per_m2(v))
-        }),
-        ("radiant_exposure_mj_per_cm2", &t.radiant_exposure_mj_per_cm2, |v| {
-            DoseAmount::RadiantExposure(RadiantExposure::from_mj_per_cm2(v))
-        }),
-        ("photon_exposure_mol_per_m2", &t.photon_exposure_mol_per_m2, |v| {
-            DoseAmount::PhotonExposure(PhotonExposure::from_mol_per_m2(v))
-        }),
-        ("photon_exposure_umol_per_m2", &t.photon_exposure_umol_per_m2, |v| {
-            DoseAmount::PhotonExposure(PhotonExposure::from_umol_per_m2(v))
-        }),
+    let candidates: [DoseCandidate<'_>; 6] = [
+        (
+            "radiant_exposure_j_per_m2",
+            &t.radiant_exposure_j_per_m2,
+            |v| DoseAmount::RadiantExposure(RadiantExposure::from_j_per_m2(v)),
+        ),
+        (
+            "radiant_exposure_mj_per_cm2",
+            &t.radiant_exposure_mj_per_cm2,
+            |v| DoseAmount::RadiantExposure(RadiantExposure::from_mj_per_cm2(v)),
+        ),
+        (
+            "photon_exposure_mol_per_m2",
+            &t.photon_exposure_mol_per_m2,
+            |v| DoseAmount::PhotonExposure(PhotonExposure::from_mol_per_m2(v)),
+        ),
+        (
+            "photon_exposure_umol_per_m2",
+            &t.photon_exposure_umol_per_m2,
+            |v| DoseAmount::PhotonExposure(PhotonExposure::from_umol_per_m2(v)),
+        ),
         ("photons_mol", &t.photons_mol, |v| {
             DoseAmount::Photons(PhotonAmount::from_mol(v))
         }),

@@ -43,8 +43,18 @@ pub fn factors(cfg: &ReviewConfig) -> Vec<Factor> {
         f("adc", "volts per code", fe.volts_per_code(), "V"),
         f("adc", "lowest code", f64::from(cfg.code_limits.0), "code"),
         f("adc", "highest code", f64::from(cfg.code_limits.1), "code"),
-        f("adc", "highest unsaturated code", f64::from(fe.high_limit() - 1), "code"),
-        f("calibration", "irradiance per photocurrent", m.calibration().w_per_m2_per_a(), "W/m² per A"),
+        f(
+            "adc",
+            "highest unsaturated code",
+            f64::from(fe.high_limit() - 1),
+            "code",
+        ),
+        f(
+            "calibration",
+            "irradiance per photocurrent",
+            m.calibration().w_per_m2_per_a(),
+            "W/m² per A",
+        ),
     ];
     let target = to_exposure(m, cfg.session.target).map_or(f64::NAN, |t| t.j_per_m2());
     let tolerance = to_exposure(m, cfg.session.tolerance).map_or(f64::NAN, |t| t.j_per_m2());
@@ -60,9 +70,19 @@ pub fn factors(cfg: &ReviewConfig) -> Vec<Factor> {
         v.push(f(&s, "dark offset", f64::from(range.dark_offset), "code"));
         v.push(f(&s, "photocurrent per net code", a, "A"));
         v.push(f(&s, "irradiance per net code", w, "W/m²"));
-        v.push(f(&s, "radiant exposure per integer unit (code·tick, doubled)", unit, "J/m²"));
+        v.push(f(
+            &s,
+            "radiant exposure per integer unit (code·tick, doubled)",
+            unit,
+            "J/m²",
+        ));
         v.push(f(&s, "highest measurable irradiance", top * w, "W/m²"));
-        v.push(f(&s, "target in integer units", target / unit, "code·tick×2"));
+        v.push(f(
+            &s,
+            "target in integer units",
+            target / unit,
+            "code·tick×2",
+        ));
         v.push(f(
             &s,
             "target as the integrator holds it (rounded up, +1)",
@@ -76,14 +96,34 @@ pub fn factors(cfg: &ReviewConfig) -> Vec<Factor> {
             "code·tick×2",
         ));
         if top * w > 0.0 {
-            v.push(f(&s, "time to target at the highest measurable irradiance", target / (top * w), "s"));
+            v.push(f(
+                &s,
+                "time to target at the highest measurable irradiance",
+                target / (top * w),
+                "s",
+            ));
         }
     }
     let b = m.band();
     v.push(f("band", "photons per joule", b.photons_per_j(), "1/J"));
-    v.push(f("band", "photons per radiant energy", b.mol_per_j() * 1e6, "µmol/J"));
-    v.push(f("band", "mean photon energy", b.mean_photon_energy().ev(), "eV"));
-    v.push(f("band", "equivalent wavelength", b.equivalent_wavelength().nm(), "nm"));
+    v.push(f(
+        "band",
+        "photons per radiant energy",
+        b.mol_per_j() * 1e6,
+        "µmol/J",
+    ));
+    v.push(f(
+        "band",
+        "mean photon energy",
+        b.mean_photon_energy().ev(),
+        "eV",
+    ));
+    v.push(f(
+        "band",
+        "equivalent wavelength",
+        b.equivalent_wavelength().nm(),
+        "nm",
+    ));
     v.push(f(
         "band",
         "photon irradiance per irradiance",
@@ -98,13 +138,28 @@ pub fn factors(cfg: &ReviewConfig) -> Vec<Factor> {
         f64::from(cfg.session.max_gap_ticks) / f64::from(hz),
         "s",
     ));
-    v.push(f("target", &format!("as given ({})", cfg.target.key), cfg.target.value, unit_of(cfg.target.key)));
+    v.push(f(
+        "target",
+        &format!("as given ({})", cfg.target.key),
+        cfg.target.value,
+        unit_of(cfg.target.key),
+    ));
     v.push(f("target", "radiant exposure", target, "J/m²"));
     v.push(f("target", "radiant exposure", target * 0.1, "mJ/cm²"));
-    v.push(f("target", "photon exposure", target * b.mol_per_j() * 1e6, "µmol/m²"));
+    v.push(f(
+        "target",
+        "photon exposure",
+        target * b.mol_per_j() * 1e6,
+        "µmol/m²",
+    ));
     if let Some(a) = m.sample_area() {
         v.push(f("target", "illuminated area", a.m2() * 1e4, "cm²"));
-        v.push(f("target", "photons to the area", target * b.mol_per_j() * a.m2() * 1e6, "µmol"));
+        v.push(f(
+            "target",
+            "photons to the area",
+            target * b.mol_per_j() * a.m2() * 1e6,
+            "µmol",
+        ));
         v.push(f(
             "target",
             "photons to the area",
@@ -112,38 +167,89 @@ pub fn factors(cfg: &ReviewConfig) -> Vec<Factor> {
             "photons",
         ));
     }
-    v.push(f("target", &format!("tolerance as given ({})", cfg.tolerance.key), cfg.tolerance.value, unit_of(cfg.tolerance.key)));
+    v.push(f(
+        "target",
+        &format!("tolerance as given ({})", cfg.tolerance.key),
+        cfg.tolerance.value,
+        unit_of(cfg.tolerance.key),
+    ));
     v.push(f("target", "tolerance", tolerance, "J/m²"));
-    v.push(f("target", "overexposure level (target + tolerance)", target + tolerance, "J/m²"));
+    v.push(f(
+        "target",
+        "overexposure level (target + tolerance)",
+        target + tolerance,
+        "J/m²",
+    ));
     if let Some(x) = &cfg.exposure {
         let w = x.weight.ratio();
         let l = x.limit.j_per_m2();
         v.push(f("exposure", "weight factor (effective ÷ radiant)", w, "1"));
         v.push(f("exposure", "limit (effective)", l, "J/m²"));
-        v.push(f("exposure", "limit as unweighted radiant exposure", l / w, "J/m²"));
-        v.push(f("exposure", "window", f64::from(x.window_ticks) / f64::from(hz), "s"));
-        v.push(f("exposure", "buckets in the window", f64::from(x.window_ticks / x.bucket_ticks.max(1)), "1"));
+        v.push(f(
+            "exposure",
+            "limit as unweighted radiant exposure",
+            l / w,
+            "J/m²",
+        ));
+        v.push(f(
+            "exposure",
+            "window",
+            f64::from(x.window_ticks) / f64::from(hz),
+            "s",
+        ));
+        v.push(f(
+            "exposure",
+            "buckets in the window",
+            f64::from(x.window_ticks / x.bucket_ticks.max(1)),
+            "1",
+        ));
         for (i, lv) in x.levels.iter().enumerate() {
             v.push(f(
                 "exposure",
-                &format!("level {} raises at (rounded down to {} J/m² quanta)", i + 1, QUANTUM_J_PER_M2),
+                &format!(
+                    "level {} raises at (rounded down to {} J/m² quanta)",
+                    i + 1,
+                    QUANTUM_J_PER_M2
+                ),
                 (lv * l / QUANTUM_J_PER_M2).floor() * QUANTUM_J_PER_M2,
                 "J/m²",
             ));
         }
         if let Some(t) = photon_ledger::exposure::max_exposure_time(
             x.limit,
-            Irradiance::from_w_per_m2(w * m.irradiance(1, RangeIndex(0)).w_per_m2() * f64::from(fe.high_limit() - 1)),
+            Irradiance::from_w_per_m2(
+                w * m.irradiance(1, RangeIndex(0)).w_per_m2() * f64::from(fe.high_limit() - 1),
+            ),
         ) {
-            v.push(f("exposure", "time to the limit at the highest measurable irradiance of range 0", t.s(), "s"));
+            v.push(f(
+                "exposure",
+                "time to the limit at the highest measurable irradiance of range 0",
+                t.s(),
+                "s",
+            ));
         }
     }
     if let Some(s) = &cfg.solar {
         let e = s.erythema.ratio();
-        v.push(f("solar", "erythema weight factor (erythemal ÷ radiant)", e, "1"));
-        v.push(f("solar", "UV index per irradiance", UVI_PER_W_PER_M2 * e, "per W/m²"));
+        v.push(f(
+            "solar",
+            "erythema weight factor (erythemal ÷ radiant)",
+            e,
+            "1",
+        ));
+        v.push(f(
+            "solar",
+            "UV index per irradiance",
+            UVI_PER_W_PER_M2 * e,
+            "per W/m²",
+        ));
         v.push(f("solar", "radiant exposure per SED", 100.0 / e, "J/m²"));
-        v.push(f("solar", "UV index averaging period", f64::from(s.averaging_ticks) / f64::from(hz), "s"));
+        v.push(f(
+            "solar",
+            "UV index averaging period",
+            f64::from(s.averaging_ticks) / f64::from(hz),
+            "s",
+        ));
     }
     v
 }

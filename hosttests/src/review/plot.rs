@@ -138,7 +138,8 @@ pub fn render_svg(
         .map(|b| b.e_min * e_k)
         .fold(0.0f64, f64::min);
     let target = report.configuration.target_j_per_m2 * d_k;
-    let over = (report.configuration.target_j_per_m2 + report.configuration.tolerance_j_per_m2) * d_k;
+    let over =
+        (report.configuration.target_j_per_m2 + report.configuration.tolerance_j_per_m2) * d_k;
     let d_max = series
         .bins
         .iter()
@@ -147,7 +148,11 @@ pub fn render_svg(
     // An overexposure level far above everything else would squash the curve: leave it off
     // the scale and say so in the legend.
     let over_on_scale = over <= d_max * 1.5;
-    let d_top = if over_on_scale { d_max.max(over) } else { d_max } * 1.08;
+    let d_top = if over_on_scale {
+        d_max.max(over)
+    } else {
+        d_max
+    } * 1.08;
 
     let mut svg = String::new();
     {
@@ -189,7 +194,10 @@ pub fn render_svg(
         for g in &report.timing.gaps {
             top_chart
                 .draw_series(std::iter::once(Rectangle::new(
-                    [(g.start_time_s * t_k, e_min), (g.end_time_s * t_k, e_max * 1.08)],
+                    [
+                        (g.start_time_s * t_k, e_min),
+                        (g.end_time_s * t_k, e_max * 1.08),
+                    ],
                     RGBColor(0x90, 0x90, 0x90).mix(0.25).filled(),
                 )))
                 .map_err(draw_err)?;
@@ -229,7 +237,11 @@ pub fn render_svg(
                 .map_err(draw_err)?;
             if i == 0 {
                 drawn
-                    .label(if merged { "bucket maximum" } else { "irradiance" })
+                    .label(if merged {
+                        "bucket maximum"
+                    } else {
+                        "irradiance"
+                    })
                     .legend(|(x, y)| {
                         PathElement::new(vec![(x, y), (x + 18, y)], IRRADIANCE.stroke_width(2))
                     });
@@ -265,7 +277,10 @@ pub fn render_svg(
             .map_err(draw_err)?;
         chart
             .draw_series(LineSeries::new(
-                series.bins.iter().map(|b| (t_of(b.t_last), b.dose_last * d_k)),
+                series
+                    .bins
+                    .iter()
+                    .map(|b| (t_of(b.t_last), b.dose_last * d_k)),
                 DOSE.stroke_width(2),
             ))
             .map_err(draw_err)?
@@ -287,7 +302,12 @@ pub fn render_svg(
             Vec::new()
         };
         chart
-            .draw_series(DashedLineSeries::new(over_points, 3, 4, OVER.stroke_width(2)))
+            .draw_series(DashedLineSeries::new(
+                over_points,
+                3,
+                4,
+                OVER.stroke_width(2),
+            ))
             .map_err(draw_err)?
             .label(if over_on_scale {
                 format!("target + tolerance {}", short(over))
@@ -314,7 +334,10 @@ pub fn render_svg(
                 continue;
             };
             let x = e.time_s * t_k;
-            let y = match (e.kind.as_str(), report.dose.at_target_radiant_exposure_j_per_m2) {
+            let y = match (
+                e.kind.as_str(),
+                report.dose.at_target_radiant_exposure_j_per_m2,
+            ) {
                 ("target_met", Some(h)) => h * d_k,
                 _ => dose_at(e.time_s),
             };
@@ -340,7 +363,11 @@ pub fn render_svg(
             let label = names.join(", ");
             // Labels near the right edge go to the left of the marker; alternate heights.
             let width = 7 * label.chars().count() as i32;
-            let dx = if *x > x0 + 0.75 * (x1 - x0) { -width - 8 } else { 8 };
+            let dx = if *x > x0 + 0.75 * (x1 - x0) {
+                -width - 8
+            } else {
+                8
+            };
             let dy = if n % 2 == 0 { -20 } else { -36 };
             chart
                 .draw_series(std::iter::once(

@@ -134,7 +134,9 @@ impl SessionSummary {
     pub fn from_report(r: &Report, source_name: &str) -> Result<Self, ReviewError> {
         let bad = |m: &str| ReviewError::Other(format!("{source_name}: {m}"));
         if r.report_format != REPORT_FORMAT || r.report_version != REPORT_VERSION {
-            return Err(bad("not a photon-review report of a version this tool reads"));
+            return Err(bad(
+                "not a photon-review report of a version this tool reads",
+            ));
         }
         if !r.complete {
             return Err(bad("the report is not complete; it is not imported"));
@@ -261,10 +263,15 @@ impl Register {
     /// # Errors
     /// SQLite errors, or a file with another schema version.
     pub fn open(path: &str) -> Result<Self, ReviewError> {
-        let conn = Connection::open(path).map_err(|e| ReviewError::Register(format!("{path}: {e}")))?;
+        let conn =
+            Connection::open(path).map_err(|e| ReviewError::Register(format!("{path}: {e}")))?;
         conn.execute_batch(SCHEMA)?;
         let v: Option<String> = conn
-            .query_row("SELECT value FROM meta WHERE key = 'schema_version'", [], |r| r.get(0))
+            .query_row(
+                "SELECT value FROM meta WHERE key = 'schema_version'",
+                [],
+                |r| r.get(0),
+            )
             .optional()?;
         match v {
             None => {
@@ -379,7 +386,9 @@ impl Register {
     /// # Errors
     /// SQLite errors.
     pub fn session_count(&self) -> Result<u64, ReviewError> {
-        let n: i64 = self.conn.query_row("SELECT COUNT(*) FROM session", [], |r| r.get(0))?;
+        let n: i64 = self
+            .conn
+            .query_row("SELECT COUNT(*) FROM session", [], |r| r.get(0))?;
         Ok(u64::try_from(n).unwrap_or(0))
     }
 
@@ -424,7 +433,9 @@ impl Register {
                 device_id: r.get(1)?,
                 person_id: r.get(2)?,
                 reactor_id: r.get(3)?,
-                fault: r.get::<_, Option<String>>(4)?.unwrap_or_else(|| "unknown".into()),
+                fault: r
+                    .get::<_, Option<String>>(4)?
+                    .unwrap_or_else(|| "unknown".into()),
                 radiant_exposure_j_per_m2: r.get(5)?,
                 source_name: r.get(6)?,
             })

@@ -32,7 +32,10 @@ pub type ReplaySession = Session<Unwired, Unwired>;
 ///
 /// # Errors
 /// The library's [`SessionConfigError`].
-pub fn new_session(meter: Meter, config: SessionConfig) -> Result<ReplaySession, SessionConfigError> {
+pub fn new_session(
+    meter: Meter,
+    config: SessionConfig,
+) -> Result<ReplaySession, SessionConfigError> {
     let mut s = match Session::new(meter, config, Unwired, Unwired) {
         Ok(s) => s,
         Err(Ok(e)) => return Err(e),
@@ -285,7 +288,11 @@ impl Replayer {
                 self.integrated += 1;
                 self.in_unusable_run = false;
                 if let Some(last) = self.session.integrator().last() {
-                    let e = self.session.meter().irradiance(last.net, last.range).w_per_m2();
+                    let e = self
+                        .session
+                        .meter()
+                        .irradiance(last.net, last.range)
+                        .w_per_m2();
                     self.e_min = self.e_min.min(e);
                     self.e_max = self.e_max.max(e);
                 }
@@ -302,7 +309,11 @@ impl Replayer {
                 self.unusable += 1;
                 if !self.in_unusable_run {
                     self.in_unusable_run = true;
-                    self.event(s, "saturated_run", format!("{f}; tolerated, not integrated"));
+                    self.event(
+                        s,
+                        "saturated_run",
+                        format!("{f}; tolerated, not integrated"),
+                    );
                 }
             }
             Outcome::Ignored(Ignored::NotRunning) => self.after_end += 1,
@@ -320,7 +331,11 @@ impl Replayer {
         if self.series.is_some() {
             let fe = self.session.meter().front_end();
             let e = match fe.net_code(&s.reading) {
-                Ok(net) => self.session.meter().irradiance(net, s.reading.range).w_per_m2(),
+                Ok(net) => self
+                    .session
+                    .meter()
+                    .irradiance(net, s.reading.range)
+                    .w_per_m2(),
                 Err(_) => f64::NAN,
             };
             let dose = self.session.integrator().exposure().j_per_m2();
@@ -400,20 +415,34 @@ impl Replayer {
                 self.event(
                     s,
                     "exposure_level_raised",
-                    format!("level {} ({} % of the limit), window {} J/m²", i + 1, sig(l * 100.0), sig(w)),
+                    format!(
+                        "level {} ({} % of the limit), window {} J/m²",
+                        i + 1,
+                        sig(l * 100.0),
+                        sig(w)
+                    ),
                 );
             }
             if c.cleared & bit != 0 {
                 self.event(
                     s,
                     "exposure_level_cleared",
-                    format!("level {} ({} % of the limit), window {} J/m²", i + 1, sig(l * 100.0), sig(w)),
+                    format!(
+                        "level {} ({} % of the limit), window {} J/m²",
+                        i + 1,
+                        sig(l * 100.0),
+                        sig(w)
+                    ),
                 );
             }
         }
         if c.alarm_latched && latched && self.limit_at.is_none() {
             self.limit_at = Some(self.time_s(s.t_abs));
-            self.event(s, "exposure_alarm_latched", format!("limit reached: window {} J/m²", sig(w)));
+            self.event(
+                s,
+                "exposure_alarm_latched",
+                format!("limit reached: window {} J/m²", sig(w)),
+            );
         }
         if let Some(g) = c.gap {
             self.event(
@@ -470,39 +499,56 @@ impl Replayer {
         let mol_per_j = meter.band().mol_per_j();
         let ranges = meter.front_end().range_count();
         let raw: Vec<String> = (0..ranges)
-            .map(|r| self.session.integrator().raw_total(RangeIndex(r as u8)).to_string())
+            .map(|r| {
+                self.session
+                    .integrator()
+                    .raw_total(RangeIndex(r as u8))
+                    .to_string()
+            })
             .collect();
         let cfg = &self.config;
         let tol = photon_ledger::session::to_exposure(meter, cfg.session.tolerance)
             .map_or(0.0, |t| t.j_per_m2());
         let start = self.origin_s;
         let end = self.prev.map_or(start, |(t, _)| self.time_s(t));
-        let exposure = self.monitor.as_ref().zip(cfg.exposure.as_ref()).map(|(m, x)| {
-            let t = m.totals();
-            ExposureReport {
-                weight_factor: x.weight.ratio(),
-                limit_j_per_m2: x.limit.j_per_m2(),
-                window_s: f64::from(x.window_ticks) / self.hz,
-                effective_exposure_j_per_m2: t.exposure.j_per_m2(),
-                gap_bound_j_per_m2: t.gap_bounds.j_per_m2(),
-                max_window_exposure_j_per_m2: self.window_max,
-                max_fraction_of_limit: self.window_max / x.limit.j_per_m2(),
-                limit_reached: self.limit_at.is_some() || m.alarm_latched(),
-                limit_reached_time_s: self.limit_at,
-            }
-        });
-        let solar = self.solar.as_ref().zip(cfg.solar.as_ref()).map(|(s, x)| SolarReport {
-            erythema_weight_factor: x.erythema.ratio(),
-            erythemal_exposure_sed: s.day_sed(),
-            max_uv_index: self.uvi_max,
-            max_uv_index_reported: self.uvi_reported_max,
-        });
+        let exposure = self
+            .monitor
+            .as_ref()
+            .zip(cfg.exposure.as_ref())
+            .map(|(m, x)| {
+                let t = m.totals();
+                ExposureReport {
+                    weight_factor: x.weight.ratio(),
+                    limit_j_per_m2: x.limit.j_per_m2(),
+                    window_s: f64::from(x.window_ticks) / self.hz,
+                    effective_exposure_j_per_m2: t.exposure.j_per_m2(),
+                    gap_bound_j_per_m2: t.gap_bounds.j_per_m2(),
+                    max_window_exposure_j_per_m2: self.window_max,
+                    max_fraction_of_limit: self.window_max / x.limit.j_per_m2(),
+                    limit_reached: self.limit_at.is_some() || m.alarm_latched(),
+                    limit_reached_time_s: self.limit_at,
+                }
+            });
+        let solar = self
+            .solar
+            .as_ref()
+            .zip(cfg.solar.as_ref())
+            .map(|(s, x)| SolarReport {
+                erythema_weight_factor: x.erythema.ratio(),
+                erythemal_exposure_sed: s.day_sed(),
+                max_uv_index: self.uvi_max,
+                max_uv_index_reported: self.uvi_reported_max,
+            });
         let mut id = Sha256::new();
         id.update(input.config_sha256.as_bytes());
         id.update(b"\n");
         id.update(input.samples_sha256.as_bytes());
         id.update(b"\n");
-        id.update(serde_json::to_string(&cfg.labels).unwrap_or_default().as_bytes());
+        id.update(
+            serde_json::to_string(&cfg.labels)
+                .unwrap_or_default()
+                .as_bytes(),
+        );
         Report {
             report_format: REPORT_FORMAT.to_string(),
             report_version: REPORT_VERSION,
@@ -547,7 +593,7 @@ impl Replayer {
                 mean_w_per_m2: mean,
                 max_w_per_m2: have.then_some(self.e_max),
                 mean_photon_irradiance_umol_per_m2_s: mean.map(|e| e * mol_per_j * 1e6),
-                max_photon_irradiance_umol_per_m2_s: have.then(|| self.e_max * mol_per_j * 1e6),
+                max_photon_irradiance_umol_per_m2_s: have.then_some(self.e_max * mol_per_j * 1e6),
             },
             timing: TimingReport {
                 start_time_s: start,
@@ -560,7 +606,8 @@ impl Replayer {
                 unusable_samples: self.unusable,
                 samples_after_end: self.after_end,
                 interval_min_s: (self.samples > 1).then(|| self.interval_min as f64 / self.hz),
-                interval_mean_s: (self.samples > 1).then(|| (end - start) / (self.samples - 1) as f64),
+                interval_mean_s: (self.samples > 1)
+                    .then(|| (end - start) / (self.samples - 1) as f64),
                 interval_max_s: (self.samples > 1).then(|| self.interval_max as f64 / self.hz),
                 gaps: std::mem::take(&mut self.gaps),
             },

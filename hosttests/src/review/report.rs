@@ -273,10 +273,14 @@ fn opt(v: Option<f64>, unit: &str) -> String {
     v.map_or_else(|| "-".to_string(), |x| format!("{} {unit}", sig(x)))
 }
 
-/// A number with 6 significant digits, without exponent for ordinary magnitudes.
+/// A number with 6 significant digits (whole numbers below 10¹⁵ in full), without exponent
+/// for ordinary magnitudes.
 pub fn sig(x: f64) -> String {
     if x == 0.0 || !x.is_finite() {
         return format!("{x}");
+    }
+    if x.fract() == 0.0 && x.abs() < 1e15 {
+        return format!("{x:.0}");
     }
     let mag = x.abs().log10().floor() as i32;
     if (-4..6).contains(&mag) {
@@ -319,7 +323,9 @@ impl Report {
             s,
             "stop reason        {}{}",
             o.stop_reason,
-            o.fault.as_ref().map_or(String::new(), |f| format!(" ({f})"))
+            o.fault
+                .as_ref()
+                .map_or(String::new(), |f| format!(" ({f})"))
         );
         let _ = writeln!(
             s,

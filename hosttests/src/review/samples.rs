@@ -239,7 +239,9 @@ impl<R: Read> SampleReader<R> {
                     ValueKind::CurrentA => a,
                     ValueKind::IrradianceWPerM2 => meter.irradiance(1, RangeIndex(r)).w_per_m2(),
                 };
-                if let (Some(c), Some(d)) = (conv.codes_per_unit.get_mut(idx), conv.dark.get_mut(idx)) {
+                if let (Some(c), Some(d)) =
+                    (conv.codes_per_unit.get_mut(idx), conv.dark.get_mut(idx))
+                {
                     *c = 1.0 / per_code;
                     *d = rng.dark_offset;
                 }
@@ -377,8 +379,7 @@ impl<R: Read> SampleReader<R> {
                 match (self.conv.codes_per_unit.get(r), self.conv.dark.get(r)) {
                     (Some(&k), Some(&dark)) if k > 0.0 => {
                         let c = (v * k).round() + f64::from(dark);
-                        c.clamp(f64::from(self.conv.min_code), f64::from(self.conv.max_code))
-                            as i32
+                        c.clamp(f64::from(self.conv.min_code), f64::from(self.conv.max_code)) as i32
                     }
                     // An unknown range: the pipeline faults on it whatever the code.
                     _ => 0,
@@ -426,7 +427,11 @@ impl<R: Read> SampleReader<R> {
             TimeUnit::Ticks => {
                 let v = self.integer(line, ti)?;
                 let t = u32::try_from(v).map_err(|_| {
-                    self.bad(line, ti, format!("{v} is not a 32-bit tick count 0 ..= 4294967295"))
+                    self.bad(
+                        line,
+                        ti,
+                        format!("{v} is not a 32-bit tick count 0 ..= 4294967295"),
+                    )
                 })?;
                 if self.first_ticks.is_none() {
                     self.first_ticks = Some(0);
@@ -489,21 +494,6 @@ fn parse_int(b: &[u8]) -> Option<i64> {
     Some(if neg { -v } else { v })
 }
 
-#[cfg(test)]
-mod tests {
-    use super::parse_int;
-
-    #[test]
-    fn integers_from_bytes() {
-        assert_eq!(parse_int(b"0"), Some(0));
-        assert_eq!(parse_int(b"-42"), Some(-42));
-        assert_eq!(parse_int(b"+4294967295"), Some(4_294_967_295));
-        for bad in [&b""[..], b"-", b"1.5", b"12a", b"1e3", b"1234567890123456789"] {
-            assert_eq!(parse_int(bad), None, "{bad:?}");
-        }
-    }
-}
-
 fn csv_error(file: &str, e: &csv::Error, expected: Option<usize>) -> ReviewError {
     let mut place = Place {
         file: file.to_string(),
@@ -533,4 +523,26 @@ fn csv_error(file: &str, e: &csv::Error, expected: Option<usize>) -> ReviewError
         _ => e.to_string(),
     };
     ReviewError::input(place, message)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::parse_int;
+
+    #[test]
+    fn integers_from_bytes() {
+        assert_eq!(parse_int(b"0"), Some(0));
+        assert_eq!(parse_int(b"-42"), Some(-42));
+        assert_eq!(parse_int(b"+4294967295"), Some(4_294_967_295));
+        for bad in [
+            &b""[..],
+            b"-",
+            b"1.5",
+            b"12a",
+            b"1e3",
+            b"1234567890123456789",
+        ] {
+            assert_eq!(parse_int(bad), None, "{bad:?}");
+        }
+    }
 }

@@ -352,7 +352,11 @@ fn logger(seed: u64) -> Result<String, ReviewError> {
         }
         let t = f64::from(s);
         // Slow drift of the sun plus clouds passing (a first-order random walk).
-        let target = if rng.uniform() < 0.02 { 0.35 + 0.65 * rng.uniform() } else { cloud };
+        let target = if rng.uniform() < 0.02 {
+            0.35 + 0.65 * rng.uniform()
+        } else {
+            cloud
+        };
         cloud += 0.2 * (target - cloud);
         let e = 30.0 * (0.9 + 0.1 * (t / 3600.0 * std::f64::consts::PI).sin()) * cloud;
         let _ = writeln!(out, "{t:.0},{:.4}", (e + 0.05 * rng.normal()).max(0.0));

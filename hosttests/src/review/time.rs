@@ -43,7 +43,12 @@ pub fn parse_utc(s: &str) -> Option<f64> {
         }
     };
     let sep = |i: usize, c: u8| b.get(i) == Some(&c);
-    if !(sep(4, b'-') && sep(7, b'-') && (sep(10, b'T') || sep(10, b't')) && sep(13, b':') && sep(16, b':')) {
+    if !(sep(4, b'-')
+        && sep(7, b'-')
+        && (sep(10, b'T') || sep(10, b't'))
+        && sep(13, b':')
+        && sep(16, b':'))
+    {
         return None;
     }
     let (y, mo, d) = (num(0..4)?, num(5..7)?, num(8..10)?);
@@ -55,7 +60,24 @@ pub fn parse_utc(s: &str) -> Option<f64> {
         }
         _ => return None,
     };
-    let month_days = [31, if y % 4 == 0 && (y % 100 != 0 || y % 400 == 0) { 29 } else { 28 }, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31];
+    let month_days = [
+        31,
+        if y % 4 == 0 && (y % 100 != 0 || y % 400 == 0) {
+            29
+        } else {
+            28
+        },
+        31,
+        30,
+        31,
+        30,
+        31,
+        31,
+        30,
+        31,
+        30,
+        31,
+    ];
     let max_day = *month_days.get(usize::try_from(mo - 1).ok()?)?;
     if !(1..=max_day).contains(&d) || h > 23 || mi > 59 || se > 60 {
         return None;
@@ -96,7 +118,12 @@ mod tests {
         assert_eq!(parse_utc("1970-01-01T00:00:01.5Z"), Some(1.5));
         assert_eq!(utc_day(951_868_800.0 - 1.0), "2000-02-29");
         assert_eq!(format_utc(951_868_800.0 + 3661.0), "2000-03-01T01:01:01Z");
-        for bad in ["2000-02-30T00:00:00Z", "2000-03-01 00:00:00Z", "2000-03-01T00:00:00", "x"] {
+        for bad in [
+            "2000-02-30T00:00:00Z",
+            "2000-03-01 00:00:00Z",
+            "2000-03-01T00:00:00",
+            "x",
+        ] {
             assert_eq!(parse_utc(bad), None, "{bad}");
         }
     }
