@@ -708,7 +708,18 @@ pub fn replay_file(
     let show = progress && std::io::stderr().is_terminal();
     let mut bar: Option<indicatif::ProgressBar> = None;
     let mut first = true;
-    while let Some(s) = reader.next_sample()? {
+    loop {
+        let s = match reader.next_sample() {
+            Ok(Some(s)) => s,
+            Ok(None) => break,
+            Err(e) => {
+                // Take the bar away so the error is not mixed with it.
+                if let Some(b) = bar.take() {
+                    b.finish_and_clear();
+                }
+                return Err(e);
+            }
+        };
         if first {
             replayer.set_origin_s(reader.origin_s());
             first = false;
@@ -722,13 +733,13 @@ pub fn replay_file(
                     let b = indicatif::ProgressBar::with_draw_target(
                         Some(total),
                         indicatif::ProgressDrawTarget::stderr(),
-                    );
+                    )
+                    .with_position(pos);
                     if let Ok(style) = indicatif::ProgressStyle::with_template(
                         "replay {bar:40} {bytes}/{total_bytes} {bytes_per_sec} eta {eta}",
                     ) {
                         b.set_style(style);
                     }
-                    b.set_position(pos);
                     bar = Some(b);
                 }
                 None => {}
@@ -802,4 +813,33 @@ pub fn replay_samples(
         reading_column: "adc_code".to_string(),
         rows: samples.len() as u64,
     }))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn decimation_keeps_extremes_and_the_last_dose() {
+        let mut s = Series::default();
+        let n = 3 * MAX_PLOT_BINS as u64;
+        for t in 0..n {
+            // One spike up and one down in the middle; NaN (unusable code) now and then.
+            let e = match t {
+                5000 => 100.0,
+                5001 => -3.0,
+                t if t % 97 == 0 => f64::NAN,
+                _ => 1.0,
+            };
+            s.push(t, e, t as f64);
+        }
+        assert!(s.bins.len() <= MAX_PLOT_BINS, "{}", s.bins.len());
+        assert!(s.shift >= 1);
+        let max = s.bins.iter().map(|b| b.e_max).fold(f64::MIN, f64::max);
+        let min = s.bins.iter().map(|b| b.e_min).fold(f64::MAX, f64::min);
+        assert_eq!((min, max), (-3.0, 100.0));
+        let last = s.bins.last().unwrap();
+        assert_eq!((last.t_last, last.dose_last), (n - 1, (n - 1) as f64));
+        assert_eq!(s.bins.first().unwrap().t_first, 0);
+    }
 }
