@@ -329,9 +329,9 @@ impl Report {
         );
         let _ = writeln!(
             s,
-            "target             {} {} = {} J/m²",
-            sig(r.configuration.target_value),
+            "target             {} = {} ({} J/m²)",
             r.configuration.target_key,
+            sig(r.configuration.target_value),
             sig(r.configuration.target_j_per_m2)
         );
         let _ = writeln!(
