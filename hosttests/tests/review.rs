@@ -351,6 +351,8 @@ fn explain_prints_the_derived_factors() {
     let unit = cfg.meter.j_per_m2_per_unit(RangeIndex(1));
     let units = find("range 1", "target in integer units", "code·tick×2");
     assert!((units * unit / t - 1.0).abs() < 1e-12);
+    // A 405 nm line gives 0.008 359 347 229 × 405 µmol/J (computed from the exact SI 2019
+    // constants); an LED band around 405 nm gives more photons per joule than its peak.
     assert!(find("band", "photons per radiant energy", "µmol/J") > 405.0 * 0.008_359_347_229);
     let text = stdout(&run(&[
         "explain",

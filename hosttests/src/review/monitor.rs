@@ -65,17 +65,6 @@ fn build<const L: usize>(meter: &Meter, s: &ExposureSetup) -> Result<M<L>, Expos
     }
 }
 
-macro_rules! each {
-    ($self:expr, $m:ident => $e:expr) => {
-        match $self {
-            Monitor::L1($m) => $e,
-            Monitor::L2($m) => $e,
-            Monitor::L3($m) => $e,
-            Monitor::L4($m) => $e,
-        }
-    };
-}
-
 impl Monitor {
     /// Build the monitor the setup describes.
     ///
@@ -91,19 +80,43 @@ impl Monitor {
     }
     /// Feed a reading.
     pub fn on_reading(&mut self, r: &Reading) -> Changes {
-        each!(self, m => match m.on_reading(r) { Ok(c) => c, Err(never) => match never {} })
+        let result = match self {
+            Self::L1(m) => m.on_reading(r),
+            Self::L2(m) => m.on_reading(r),
+            Self::L3(m) => m.on_reading(r),
+            Self::L4(m) => m.on_reading(r),
+        };
+        match result {
+            Ok(c) => c,
+            Err(never) => match never {},
+        }
     }
     /// The effective exposure in the rolling window now.
     pub fn window_exposure(&self) -> RadiantExposure {
-        each!(self, m => m.window_exposure())
+        match self {
+            Self::L1(m) => m.window_exposure(),
+            Self::L2(m) => m.window_exposure(),
+            Self::L3(m) => m.window_exposure(),
+            Self::L4(m) => m.window_exposure(),
+        }
     }
     /// Totals since the start.
     pub fn totals(&self) -> ShiftTotals {
-        each!(self, m => m.shift_totals())
+        match self {
+            Self::L1(m) => m.shift_totals(),
+            Self::L2(m) => m.shift_totals(),
+            Self::L3(m) => m.shift_totals(),
+            Self::L4(m) => m.shift_totals(),
+        }
     }
     /// Whether the alarm is latched.
     pub fn alarm_latched(&self) -> bool {
-        each!(self, m => m.alarm_latched())
+        match self {
+            Self::L1(m) => m.alarm_latched(),
+            Self::L2(m) => m.alarm_latched(),
+            Self::L3(m) => m.alarm_latched(),
+            Self::L4(m) => m.alarm_latched(),
+        }
     }
 }
 
