@@ -1,0 +1,29 @@
+//! photon-review: the host review tool, built on the same library code as the firmware.
+//!
+//! | module | what |
+//! | --- | --- |
+//! | [`config`] | the session configuration file (TOML), validated into the library's types |
+//! | [`samples`] | the sample file (CSV) → the library's `Reading`s |
+//! | [`replay`] | samples through the library's `Session`; statistics, events, plot series |
+//! | [`report`] | the report (JSON with documented keys, and text) |
+//! | [`plot`] | the SVG plot |
+//! | [`simulate`] | sample files from the simulation models, for named scenarios |
+//! | [`explain`] | the derived factors of a configuration |
+//! | [`register`] | the exposure register (SQLite): import sessions, answer questions |
+//!
+//! Every configuration key and report key, with its unit, is documented in
+//! `hosttests/review/CONFIG.md`.
+
+pub mod config;
+pub mod error;
+pub mod explain;
+pub mod monitor;
+pub mod plot;
+pub mod register;
+pub mod replay;
+pub mod report;
+pub mod samples;
+pub mod simulate;
+pub mod time;
+
+pub use error::{Place, ReviewError};

@@ -1,0 +1,482 @@
+//! The exposure register: sessions from many devices and days in one SQLite file, imported
+//! idempotently, and the questions a safety officer or lab manager asks.
+//!
+//! # The seam
+//!
+//! Everything enters through [`Register::import`], which takes a list of
+//! [`SessionSummary`] — what is known about one finished session, whatever it came from.
+//! Today the summaries come from the tool's own replay reports
+//! ([`SessionSummary::from_report`], `register import`); the flash-journal decoder will build
+//! the same summaries from a device's log and call the same function.
+//!
+//! # Idempotence
+//!
+//! Each summary carries a content hash (`content_sha256`): for a replay report the report's
+//! `session_sha256` (configuration + samples + labels), for a journal the hash of the
+//! session's records. It is the table's unique key, so importing the same report or image
+//! twice adds nothing.
+//!
+//! # Schema (version 1)
+//!
+//! See [`SCHEMA`]; one row per session in table `session`, the schema version in `meta`.
+//! Days are UTC days of the session's start (a session across midnight counts on the day it
+//! started).
+
+use rusqlite::{params, Connection, OptionalExtension};
+use serde::Serialize;
+
+use super::error::ReviewError;
+use super::report::{Report, REPORT_FORMAT, REPORT_VERSION};
+use super::time::{format_utc, parse_utc, utc_day};
+
+/// Version of the register's schema (table `meta`, key `schema_version`).
+pub const SCHEMA_VERSION: i64 = 1;
+
+/// The schema.
+pub const SCHEMA: &str = "
+CREATE TABLE IF NOT EXISTS meta (
+    key   TEXT PRIMARY KEY,
+    value TEXT NOT NULL
+);
+CREATE TABLE IF NOT EXISTS session (
+    id                          INTEGER PRIMARY KEY,
+    content_sha256              TEXT NOT NULL UNIQUE,  -- identifies the session's content
+    source_kind                 TEXT NOT NULL CHECK (source_kind IN ('replay_report', 'flash_journal')),
+    source_name                 TEXT NOT NULL,          -- file it was imported from
+    device_id                   TEXT,
+    person_id                   TEXT,
+    reactor_id                  TEXT,
+    start_utc                   TEXT NOT NULL,          -- YYYY-MM-DDTHH:MM:SSZ
+    day_utc                     TEXT NOT NULL,          -- YYYY-MM-DD of start_utc
+    duration_s                  REAL NOT NULL,          -- s
+    radiant_exposure_j_per_m2   REAL NOT NULL,          -- J/m²
+    photon_exposure_mol_per_m2  REAL NOT NULL,          -- mol/m²
+    photons_mol                 REAL,                   -- mol, with an illuminated area
+    target_j_per_m2             REAL,                   -- J/m²
+    target_reached              INTEGER NOT NULL CHECK (target_reached IN (0, 1)),
+    stop_reason                 TEXT NOT NULL,          -- target_met | overexposed | fault | end_of_data
+    fault                       TEXT,                   -- the fault if stop_reason = 'fault'
+    effective_exposure_j_per_m2 REAL,                   -- J/m² weighted, with an exposure monitor
+    exposure_limit_j_per_m2     REAL,                   -- J/m² weighted, the limit that applied
+    limit_reached               INTEGER NOT NULL CHECK (limit_reached IN (0, 1)),
+    erythemal_exposure_sed      REAL,                   -- SED, with solar UV configured
+    imported_utc                TEXT NOT NULL
+);
+CREATE INDEX IF NOT EXISTS session_day ON session (day_utc);
+";
+
+/// Where a session summary came from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SourceKind {
+    /// A replay report of this tool.
+    ReplayReport,
+    /// A decoded flash journal (the decoder is not merged yet).
+    FlashJournal,
+}
+
+impl SourceKind {
+    fn as_str(self) -> &'static str {
+        match self {
+            Self::ReplayReport => "replay_report",
+            Self::FlashJournal => "flash_journal",
+        }
+    }
+}
+
+/// What the register keeps of one finished session. Units as in the field names.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SessionSummary {
+    /// SHA-256 of the session's content, hex: the unique key.
+    pub content_sha256: String,
+    /// Where it came from.
+    pub source_kind: SourceKind,
+    /// The file it came from.
+    pub source_name: String,
+    /// Device label.
+    pub device_id: Option<String>,
+    /// Person label.
+    pub person_id: Option<String>,
+    /// Reactor or station label.
+    pub reactor_id: Option<String>,
+    /// UTC start, `YYYY-MM-DDTHH:MM:SSZ`.
+    pub start_utc: String,
+    /// Duration, s.
+    pub duration_s: f64,
+    /// Radiant exposure, J/m².
+    pub radiant_exposure_j_per_m2: f64,
+    /// Photon exposure, mol/m².
+    pub photon_exposure_mol_per_m2: f64,
+    /// Photons to the illuminated area, mol.
+    pub photons_mol: Option<f64>,
+    /// Target, J/m².
+    pub target_j_per_m2: Option<f64>,
+    /// Whether the target was reached.
+    pub target_reached: bool,
+    /// `target_met`, `overexposed`, `fault`, `end_of_data`.
+    pub stop_reason: String,
+    /// The fault, if any.
+    pub fault: Option<String>,
+    /// Effective (weighted) exposure, J/m².
+    pub effective_exposure_j_per_m2: Option<f64>,
+    /// The effective exposure limit that applied, J/m².
+    pub exposure_limit_j_per_m2: Option<f64>,
+    /// Whether the exposure monitor reached its limit during the session.
+    pub limit_reached: bool,
+    /// Erythemal exposure, SED.
+    pub erythemal_exposure_sed: Option<f64>,
+}
+
+impl SessionSummary {
+    /// The summary of a replay report.
+    ///
+    /// # Errors
+    /// A report that is not complete, of another format, or has no start time.
+    pub fn from_report(r: &Report, source_name: &str) -> Result<Self, ReviewError> {
+        let bad = |m: &str| ReviewError::Other(format!("{source_name}: {m}"));
+        if r.report_format != REPORT_FORMAT || r.report_version != REPORT_VERSION {
+            return Err(bad(
+                "not a photon-review report of a version this tool reads",
+            ));
+        }
+        if !r.complete {
+            return Err(bad("the report is not complete; it is not imported"));
+        }
+        let start = r.run.start_utc.clone().ok_or_else(|| {
+            bad("the report has no start time: replay with `--start-utc` or set run.start_utc")
+        })?;
+        let start_s = parse_utc(&start).ok_or_else(|| bad("run.start_utc is not a UTC time"))?;
+        Ok(Self {
+            content_sha256: r.session_sha256.clone(),
+            source_kind: SourceKind::ReplayReport,
+            source_name: source_name.to_string(),
+            device_id: r.run.device_id.clone(),
+            person_id: r.run.person_id.clone(),
+            reactor_id: r.run.reactor_id.clone(),
+            start_utc: format_utc(start_s),
+            duration_s: r.timing.duration_s,
+            radiant_exposure_j_per_m2: r.dose.radiant_exposure_j_per_m2,
+            photon_exposure_mol_per_m2: r.dose.photon_exposure_mol_per_m2,
+            photons_mol: r.dose.photons_mol,
+            target_j_per_m2: Some(r.configuration.target_j_per_m2),
+            target_reached: r.outcome.target_reached,
+            stop_reason: r.outcome.stop_reason.clone(),
+            fault: r.outcome.fault.clone(),
+            effective_exposure_j_per_m2: r.exposure.as_ref().map(|x| x.effective_exposure_j_per_m2),
+            exposure_limit_j_per_m2: r.exposure.as_ref().map(|x| x.limit_j_per_m2),
+            limit_reached: r.exposure.as_ref().is_some_and(|x| x.limit_reached),
+            erythemal_exposure_sed: r.solar.as_ref().map(|x| x.erythemal_exposure_sed),
+        })
+    }
+}
+
+/// What an import did.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
+pub struct ImportStats {
+    /// Sessions added.
+    pub added: u64,
+    /// Sessions already in the register (same content hash), not added again.
+    pub already_present: u64,
+}
+
+/// How to group doses.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Grouping {
+    /// By device.
+    Device,
+    /// By person.
+    Person,
+    /// By reactor or station.
+    Reactor,
+}
+
+impl Grouping {
+    fn column(self) -> &'static str {
+        match self {
+            Self::Device => "device_id",
+            Self::Person => "person_id",
+            Self::Reactor => "reactor_id",
+        }
+    }
+}
+
+/// Dose of one group on one day.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DayDose {
+    /// UTC day.
+    pub day_utc: String,
+    /// The device, person or reactor (`null` if the sessions had no such label).
+    pub group: Option<String>,
+    /// Sessions.
+    pub sessions: u64,
+    /// Sum of radiant exposure, J/m².
+    pub radiant_exposure_j_per_m2: f64,
+    /// Sum of photons to the illuminated areas, mol (sessions with an area only).
+    pub photons_mol: Option<f64>,
+    /// Sum of effective exposure, J/m² (sessions with an exposure monitor only).
+    pub effective_exposure_j_per_m2: Option<f64>,
+}
+
+/// A session that ended in a fault.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FaultSession {
+    /// UTC start.
+    pub start_utc: String,
+    /// Device.
+    pub device_id: Option<String>,
+    /// Person.
+    pub person_id: Option<String>,
+    /// Reactor.
+    pub reactor_id: Option<String>,
+    /// The fault.
+    pub fault: String,
+    /// Radiant exposure when it ended, J/m².
+    pub radiant_exposure_j_per_m2: f64,
+    /// The file it was imported from.
+    pub source_name: String,
+}
+
+/// A day on which a limit was exceeded.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LimitDay {
+    /// UTC day.
+    pub day_utc: String,
+    /// The person (or, without a person label, the device).
+    pub who: Option<String>,
+    /// Sum of the day's effective exposure, J/m².
+    pub effective_exposure_j_per_m2: f64,
+    /// The limit, J/m².
+    pub limit_j_per_m2: f64,
+    /// Sessions whose monitor reached the limit.
+    pub sessions_at_limit: u64,
+    /// `alarm in a session` or `day total at or above the limit`.
+    pub reason: String,
+}
+
+/// An open register file.
+pub struct Register {
+    conn: Connection,
+}
+
+impl Register {
+    /// Open (creating if needed) the register at `path`.
+    ///
+    /// # Errors
+    /// SQLite errors, or a file with another schema version.
+    pub fn open(path: &str) -> Result<Self, ReviewError> {
+        let conn =
+            Connection::open(path).map_err(|e| ReviewError::Register(format!("{path}: {e}")))?;
+        conn.execute_batch(SCHEMA)?;
+        let v: Option<String> = conn
+            .query_row(
+                "SELECT value FROM meta WHERE key = 'schema_version'",
+                [],
+                |r| r.get(0),
+            )
+            .optional()?;
+        match v {
+            None => {
+                conn.execute(
+                    "INSERT INTO meta (key, value) VALUES ('schema_version', ?1)",
+                    params![SCHEMA_VERSION.to_string()],
+                )?;
+            }
+            Some(v) if v == SCHEMA_VERSION.to_string() => {}
+            Some(v) => {
+                return Err(ReviewError::Register(format!(
+                    "{path}: schema version {v}, this tool uses {SCHEMA_VERSION}"
+                )))
+            }
+        }
+        Ok(Self { conn })
+    }
+
+    /// Import sessions; those already present (same content hash) are skipped. All or
+    /// nothing: one transaction.
+    ///
+    /// This is the seam for every source: replay reports today, decoded flash journals later.
+    ///
+    /// # Errors
+    /// SQLite errors, or a summary with a malformed start time (nothing is imported then).
+    pub fn import(&mut self, sessions: &[SessionSummary]) -> Result<ImportStats, ReviewError> {
+        let now = std::time::SystemTime::now()
+            .duration_since(std::time::UNIX_EPOCH)
+            .map_or(0.0, |d| d.as_secs_f64());
+        let imported = format_utc(now);
+        let tx = self.conn.transaction()?;
+        let mut stats = ImportStats::default();
+        {
+            let mut stmt = tx.prepare(
+                "INSERT OR IGNORE INTO session (content_sha256, source_kind, source_name, device_id,
+                    person_id, reactor_id, start_utc, day_utc, duration_s, radiant_exposure_j_per_m2,
+                    photon_exposure_mol_per_m2, photons_mol, target_j_per_m2, target_reached,
+                    stop_reason, fault, effective_exposure_j_per_m2, exposure_limit_j_per_m2,
+                    limit_reached, erythemal_exposure_sed, imported_utc)
+                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16,
+                    ?17, ?18, ?19, ?20, ?21)",
+            )?;
+            for s in sessions {
+                let start = parse_utc(&s.start_utc).ok_or_else(|| {
+                    ReviewError::Register(format!(
+                        "{}: start `{}` is not a UTC time",
+                        s.source_name, s.start_utc
+                    ))
+                })?;
+                let n = stmt.execute(params![
+                    s.content_sha256,
+                    s.source_kind.as_str(),
+                    s.source_name,
+                    s.device_id,
+                    s.person_id,
+                    s.reactor_id,
+                    format_utc(start),
+                    utc_day(start),
+                    s.duration_s,
+                    s.radiant_exposure_j_per_m2,
+                    s.photon_exposure_mol_per_m2,
+                    s.photons_mol,
+                    s.target_j_per_m2,
+                    s.target_reached,
+                    s.stop_reason,
+                    s.fault,
+                    s.effective_exposure_j_per_m2,
+                    s.exposure_limit_j_per_m2,
+                    s.limit_reached,
+                    s.erythemal_exposure_sed,
+                    imported,
+                ])?;
+                if n == 1 {
+                    stats.added += 1;
+                } else {
+                    stats.already_present += 1;
+                }
+            }
+        }
+        tx.commit()?;
+        Ok(stats)
+    }
+
+    /// Import replay report files (JSON). Every file is read and checked before anything is
+    /// imported.
+    ///
+    /// # Errors
+    /// A file that cannot be read or is not a complete report (with its name and the JSON
+    /// error's line and column), or SQLite errors.
+    pub fn import_report_files(&mut self, paths: &[String]) -> Result<ImportStats, ReviewError> {
+        let mut summaries = Vec::with_capacity(paths.len());
+        for p in paths {
+            let text = std::fs::read_to_string(p).map_err(|e| ReviewError::io(p, e))?;
+            let report: Report = serde_json::from_str(&text).map_err(|e| {
+                ReviewError::input(
+                    super::error::Place {
+                        file: p.clone(),
+                        line: Some(e.line() as u64),
+                        column: Some(e.column() as u64),
+                        field: None,
+                    },
+                    format!("not a photon-review report: {e}"),
+                )
+            })?;
+            summaries.push(SessionSummary::from_report(&report, p)?);
+        }
+        self.import(&summaries)
+    }
+
+    /// Number of sessions in the register.
+    ///
+    /// # Errors
+    /// SQLite errors.
+    pub fn session_count(&self) -> Result<u64, ReviewError> {
+        let n: i64 = self
+            .conn
+            .query_row("SELECT COUNT(*) FROM session", [], |r| r.get(0))?;
+        Ok(u64::try_from(n).unwrap_or(0))
+    }
+
+    /// Dose per group per day, by day then group.
+    ///
+    /// # Errors
+    /// SQLite errors.
+    pub fn dose_per_day(&self, by: Grouping) -> Result<Vec<DayDose>, ReviewError> {
+        let col = by.column();
+        let sql = format!(
+            "SELECT day_utc, {col}, COUNT(*), SUM(radiant_exposure_j_per_m2), SUM(photons_mol),
+                    SUM(effective_exposure_j_per_m2)
+             FROM session GROUP BY day_utc, {col} ORDER BY day_utc, {col}"
+        );
+        let mut stmt = self.conn.prepare(&sql)?;
+        let rows = stmt.query_map([], |r| {
+            Ok(DayDose {
+                day_utc: r.get(0)?,
+                group: r.get(1)?,
+                sessions: u64::try_from(r.get::<_, i64>(2)?).unwrap_or(0),
+                radiant_exposure_j_per_m2: r.get(3)?,
+                photons_mol: r.get(4)?,
+                effective_exposure_j_per_m2: r.get(5)?,
+            })
+        })?;
+        Ok(rows.collect::<Result<_, _>>()?)
+    }
+
+    /// Sessions that ended in a fault, oldest first.
+    ///
+    /// # Errors
+    /// SQLite errors.
+    pub fn fault_sessions(&self) -> Result<Vec<FaultSession>, ReviewError> {
+        let mut stmt = self.conn.prepare(
+            "SELECT start_utc, device_id, person_id, reactor_id, fault,
+                    radiant_exposure_j_per_m2, source_name
+             FROM session WHERE stop_reason = 'fault' ORDER BY start_utc, id",
+        )?;
+        let rows = stmt.query_map([], |r| {
+            Ok(FaultSession {
+                start_utc: r.get(0)?,
+                device_id: r.get(1)?,
+                person_id: r.get(2)?,
+                reactor_id: r.get(3)?,
+                fault: r
+                    .get::<_, Option<String>>(4)?
+                    .unwrap_or_else(|| "unknown".into()),
+                radiant_exposure_j_per_m2: r.get(5)?,
+                source_name: r.get(6)?,
+            })
+        })?;
+        Ok(rows.collect::<Result<_, _>>()?)
+    }
+
+    /// Days on which a person (or, without a person label, a device) reached an exposure
+    /// limit: the monitor's alarm latched in a session, or the day's effective exposure
+    /// summed over sessions is at or above the limit (the rolling window may be lower; the
+    /// sum is the conservative reading).
+    ///
+    /// # Errors
+    /// SQLite errors.
+    pub fn limit_days(&self) -> Result<Vec<LimitDay>, ReviewError> {
+        let mut stmt = self.conn.prepare(
+            "SELECT day_utc, COALESCE(person_id, device_id) AS who,
+                    SUM(effective_exposure_j_per_m2), MIN(exposure_limit_j_per_m2),
+                    SUM(limit_reached)
+             FROM session
+             WHERE exposure_limit_j_per_m2 IS NOT NULL
+             GROUP BY day_utc, who
+             HAVING SUM(limit_reached) > 0
+                 OR SUM(effective_exposure_j_per_m2) >= MIN(exposure_limit_j_per_m2)
+             ORDER BY day_utc, who",
+        )?;
+        let rows = stmt.query_map([], |r| {
+            let at_limit = u64::try_from(r.get::<_, i64>(4)?).unwrap_or(0);
+            Ok(LimitDay {
+                day_utc: r.get(0)?,
+                who: r.get(1)?,
+                effective_exposure_j_per_m2: r.get::<_, Option<f64>>(2)?.unwrap_or(0.0),
+                limit_j_per_m2: r.get(3)?,
+                sessions_at_limit: at_limit,
+                reason: if at_limit > 0 {
+                    "alarm in a session".into()
+                } else {
+                    "day total at or above the limit".into()
+                },
+            })
+        })?;
+        Ok(rows.collect::<Result<_, _>>()?)
+    }
+}
