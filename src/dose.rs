@@ -144,6 +144,24 @@ struct Threshold {
     limit: i64,
 }
 
+/// Ticks from `last` to `at`, or why they do not form an interval: 0 ticks is a repeated
+/// timestamp, 2³¹ ticks or more is time going backwards (seen through the wrap).
+///
+/// # Errors
+/// [`SampleError::Repeated`] or [`SampleError::Backwards`].
+pub fn interval(last: Ticks, at: Ticks) -> Result<u32, SampleError> {
+    let dt = at.wrapping_since(last);
+    if dt == 0 {
+        Err(SampleError::Repeated)
+    } else if dt > i32::MAX as u32 {
+        Err(SampleError::Backwards {
+            ticks: dt.wrapping_neg(),
+        })
+    } else {
+        Ok(dt)
+    }
+}
+
 /// The exact dose integrator. See the [module documentation](self).
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -312,15 +330,7 @@ impl Integrator {
                 crossed: self.crossed_now(),
             });
         };
-        let dt = at.wrapping_since(last.at);
-        if dt == 0 {
-            return Err(SampleError::Repeated);
-        }
-        if dt > i32::MAX as u32 {
-            return Err(SampleError::Backwards {
-                ticks: dt.wrapping_neg(),
-            });
-        }
+        let dt = interval(last.at, at)?;
         if dt > self.max_gap {
             self.last = Some(new);
             return Err(SampleError::Gap { ticks: dt });

@@ -31,7 +31,7 @@
 
 use embedded_hal::digital::OutputPin;
 
-use crate::dose::{LastSample, SampleError};
+use crate::dose::{interval, LastSample, SampleError};
 use crate::frontend::{CodeFault, MAX_RANGES};
 use crate::irradiance::Meter;
 use crate::quantity::{Irradiance, RadiantExposure, Seconds};
@@ -218,15 +218,7 @@ impl Accrual {
             self.last = Some(new);
             return Ok(Accrued::Started);
         };
-        let dt = at.wrapping_since(last.at);
-        if dt == 0 {
-            return Err(SampleError::Repeated);
-        }
-        if dt > i32::MAX as u32 {
-            return Err(SampleError::Backwards {
-                ticks: dt.wrapping_neg(),
-            });
-        }
+        let dt = interval(last.at, at)?;
         let k_last = self
             .per_unit
             .get(usize::from(last.range.0))
