@@ -172,6 +172,7 @@ fn part(c: &mut Controller, id: u32, t: &mut u32, light_follows: bool, guard_at:
                 Err(e) => show_error(&e),
             }
         }
+        // The light: on while exposing (no lag modelled), or always with a stuck shutter.
         let on = c.phase().is_exposing() || !light_follows;
         let done_or_faulted = matches!(c.phase(), CuringPhase::Complete | CuringPhase::Faulted(_));
         if !done_or_faulted {
@@ -233,7 +234,7 @@ fn part(c: &mut Controller, id: u32, t: &mut u32, light_follows: bool, guard_at:
         show_error(&e);
     }
     if c.alarm_latched() {
-        // Refused while a part is active would not apply here; acknowledge clears it.
+        // No part is active any more, so the acknowledgement is accepted.
         if let Err(e) = c.acknowledge_alarm() {
             show_error(&e);
         }
