@@ -712,13 +712,20 @@ impl CalibrationRecord {
     /// The amplifier ranges for [`FrontEnd::new`](crate::frontend::FrontEnd::new).
     #[must_use]
     pub fn amplifier_ranges(&self) -> heapless::Vec<AmplifierRange, MAX_RANGES> {
-        self.ranges
-            .iter()
-            .map(|r| AmplifierRange {
+        // Pushed one by one rather than `collect`ed: heapless's `FromIterator` panics when
+        // the capacity is exceeded, and the compiler cannot see that `self.ranges` (same
+        // capacity) never holds more. A full vector here is unreachable; it would stop.
+        let mut out = heapless::Vec::new();
+        for r in &self.ranges {
+            let range = AmplifierRange {
                 gain: r.gain,
                 dark_offset: r.dark_offset,
-            })
-            .collect()
+            };
+            if out.push(range).is_err() {
+                break;
+            }
+        }
+        out
     }
 }
 

@@ -850,6 +850,12 @@ impl PartState {
     }
 }
 
+/// A ring of the last [`LAMP_HISTORY`] ratios.
+///
+/// Invariants, kept by `push` (the only method that changes `len` and `next`):
+/// `next < LAMP_HISTORY` and `len ≤ LAMP_HISTORY`. Every index sum below is therefore at most
+/// `2 · LAMP_HISTORY` and cannot overflow; it is written with `wrapping_*` only so that no
+/// overflow-check path (which the compiler cannot rule out across calls) is left in the code.
 #[derive(Debug, Clone, Copy, PartialEq)]
 struct LampHistory {
     ratios: [f64; LAMP_HISTORY],
@@ -872,15 +878,19 @@ impl LampHistory {
         if let Some(slot) = self.ratios.get_mut(self.next) {
             *slot = ratio;
         }
-        self.next = (self.next + 1) % LAMP_HISTORY;
-        self.len = (self.len + 1).min(LAMP_HISTORY);
+        self.next = self.next.wrapping_add(1) % LAMP_HISTORY;
+        self.len = self.len.wrapping_add(1).min(LAMP_HISTORY);
         self.parts = self.parts.saturating_add(1);
     }
 
     /// The ratios, oldest first.
     fn ordered(&self) -> impl Iterator<Item = f64> + '_ {
-        let start = (self.next + LAMP_HISTORY - self.len) % LAMP_HISTORY;
-        (0..self.len).filter_map(move |i| self.ratios.get((start + i) % LAMP_HISTORY).copied())
+        let start = self.next.wrapping_add(LAMP_HISTORY.wrapping_sub(self.len)) % LAMP_HISTORY;
+        (0..self.len).filter_map(move |i| {
+            self.ratios
+                .get(start.wrapping_add(i) % LAMP_HISTORY)
+                .copied()
+        })
     }
 
     fn latest(&self) -> Option<f64> {
@@ -888,7 +898,7 @@ impl LampHistory {
             None
         } else {
             self.ratios
-                .get((self.next + LAMP_HISTORY - 1) % LAMP_HISTORY)
+                .get(self.next.wrapping_add(LAMP_HISTORY - 1) % LAMP_HISTORY)
                 .copied()
         }
     }

@@ -29,6 +29,8 @@
 //! Two rule sets for the UV-A eye limit exist and differ by a factor of about 29 for long
 //! exposures; they are offered separately ([`crate::weighting::UvaEyeRule`]), never merged.
 
+use core::num::NonZeroU32;
+
 use embedded_hal::digital::OutputPin;
 
 use crate::dose::{interval, LastSample, SampleError};
@@ -263,7 +265,8 @@ pub struct RollingWindow<const N: usize> {
     buckets: [u32; N],
     used: usize,
     pos: usize,
-    bucket_ticks: u32,
+    /// Non-zero, so the division in `roll_to` has no divide-by-zero path.
+    bucket_ticks: NonZeroU32,
     bucket_start: Option<Ticks>,
     current: u128,
     sum: u64,
@@ -278,10 +281,13 @@ impl<const N: usize> RollingWindow<N> {
     /// [`ExposureConfigError::WindowNotWholeBuckets`] or [`ExposureConfigError::WindowTooLong`].
     pub fn new(window_ticks: u32, bucket_ticks: u32) -> Result<Self, ExposureConfigError> {
         let () = Self::CAPACITY_OK;
-        if bucket_ticks == 0 || window_ticks == 0 || !window_ticks.is_multiple_of(bucket_ticks) {
+        let Some(bucket) = NonZeroU32::new(bucket_ticks) else {
+            return Err(ExposureConfigError::WindowNotWholeBuckets);
+        };
+        if window_ticks == 0 || !window_ticks.is_multiple_of(bucket_ticks) {
             return Err(ExposureConfigError::WindowNotWholeBuckets);
         }
-        let used = (window_ticks / bucket_ticks) as usize;
+        let used = (window_ticks / bucket) as usize;
         if used > N.saturating_sub(1) {
             return Err(ExposureConfigError::WindowTooLong);
         }
@@ -289,7 +295,7 @@ impl<const N: usize> RollingWindow<N> {
             buckets: [0; N],
             used,
             pos: 0,
-            bucket_ticks,
+            bucket_ticks: bucket,
             bucket_start: None,
             current: 0,
             sum: 0,
@@ -317,7 +323,7 @@ impl<const N: usize> RollingWindow<N> {
         for _ in 0..closings {
             self.close_bucket();
         }
-        self.bucket_start = Some(start.wrapping_add(n.wrapping_mul(self.bucket_ticks)));
+        self.bucket_start = Some(start.wrapping_add(n.wrapping_mul(self.bucket_ticks.get())));
         Ok(())
     }
 
@@ -353,7 +359,7 @@ impl<const N: usize> RollingWindow<N> {
     /// Bucket length, ticks.
     #[must_use]
     pub const fn bucket_ticks(&self) -> u32 {
-        self.bucket_ticks
+        self.bucket_ticks.get()
     }
 
     fn close_bucket(&mut self) {

@@ -172,8 +172,10 @@ impl Plausibility {
         }
         let negative_limit = if k > 0.0 {
             // Trip strictly below −kσ; as an integer code, round towards −∞ (trips late by
-            // less than one code, never early on noise).
-            -(libm::ceil(k * sigma) as i32)
+            // less than one code, never early on noise). k, σ ≥ 0, so the saturating cast
+            // gives 0 ..= i32::MAX and the negation is exact; `saturating_neg` only spares
+            // the (unreachable) overflow path of `-i32::MIN`.
+            (libm::ceil(k * sigma) as i32).saturating_neg()
         } else {
             i32::MIN
         };
