@@ -36,6 +36,9 @@
 //!    thresholds pre-converted to integer units, explicit timing faults.
 //! 7. [`session`] — the [`Session`](session::Session): target in J/m², mol/m² or mol,
 //!    tolerance, phases, outputs, progress and time to target.
+//! 8. [`photochem`] — photons into a vessel, absorbed photons, targets in absorbed einstein
+//!    or conversion (as radiant-exposure targets for the session), quantum yields and
+//!    ferrioxalate actinometry.
 //!
 //! Physical quantities are newtypes with the unit in every name ([`quantity`]). Time is
 //! always an argument: the library never reads a clock.
@@ -111,6 +114,7 @@ pub mod band;
 pub mod dose;
 pub mod frontend;
 pub mod irradiance;
+pub mod photochem;
 pub mod quantity;
 pub mod reading;
 pub mod session;
@@ -125,6 +129,8 @@ pub mod prelude {
     pub use crate::dose::{Integrator, Rounding, SampleError};
     pub use crate::frontend::{AdcSpec, AmplifierRange, CodeFault, Coding, FrontEnd};
     pub use crate::irradiance::{Calibration, Meter};
+    pub use crate::photochem::reactor::{AbsorbanceModel, PhotochemConfig, Reactor};
+    pub use crate::photochem::vessel::VesselGeometry;
     pub use crate::quantity::{
         Area, Current, Irradiance, IrradiancePerCurrent, PhotonAmount, PhotonExposure, PhotonFlux,
         PhotonIrradiance, RadiantExposure, Responsivity, Seconds, Transimpedance, Voltage,
