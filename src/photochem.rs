@@ -67,7 +67,8 @@
 //! is concave, so the chord lies below the curve and the tangents at the nodes above it; the
 //! gap between them bounds the read-out error, and
 //! [`Reactor::conversion_error_bound`](reactor::Reactor::conversion_error_bound) reports it
-//! for the configuration (about 1.4e-3 in conversion at small A₀, less at large A₀).
+//! for the configuration: below 2.8e-3 in conversion at small A₀ (where the actual error is
+//! about half that) and smaller at large A₀. The stop targets do not use this curve.
 //!
 //! # What the numbers assume
 //!

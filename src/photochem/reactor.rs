@@ -204,6 +204,7 @@ impl Depletion {
         let mut g_a = integral.integrand(0.0)?;
         // f(X) at a node is e^(−s)/g(s); at s = 0 it is 1/g.
         let mut m_a = 1.0 / g_a;
+        let m_0 = m_a;
         let (mut n, mut x_a) = (0.0_f64, 0.0_f64);
         curve.push((n, x_a)).map_err(full)?;
         let mut bound = 0.0_f64;
@@ -231,8 +232,9 @@ impl Depletion {
         if !n.is_finite() {
             return Err(PhotochemError::NotRepresentable);
         }
-        // The nodes themselves carry the quadrature error (relative; the slope is ≤ 1).
-        bound += DEPLETION_TARGET_MARGIN * n;
+        // The nodes carry the quadrature error (relative to I, at most the margin); it moves
+        // X by at most that times the largest slope dX/dI = f(0).
+        bound += DEPLETION_TARGET_MARGIN * n * m_0;
         Ok(Self {
             curve,
             error_bound: bound,
@@ -530,5 +532,241 @@ impl<'a> Reactor<'a> {
                 }
             }
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::photochem::units::{Absorbance, PhotonFluxPerIrradiance, Transmission};
+    use crate::quantity::Wavelength;
+
+    /// ln(e^u − 1) without overflow (for the closed form).
+    fn ln_expm1(u: f64) -> f64 {
+        if u > 1.0 {
+            u + (-(-u).exp_m1()).ln()
+        } else {
+            u.exp_m1().ln()
+        }
+    }
+
+    /// Closed form of the depletion integral for one wavelength, computed from the model:
+    /// I(X) = [ln(e^a − 1) − ln(e^(a(1−X)) − 1)]/a, a = A₀ ln 10.
+    fn closed_form(a0: f64, x: f64) -> f64 {
+        let a = a0 * core::f64::consts::LN_10;
+        (ln_expm1(a) - ln_expm1(a * (1.0 - x))) / a
+    }
+
+    /// Inverse of the closed form by bisection (test oracle for the conversion read-out).
+    fn conversion_from_closed_form(a0: f64, n: f64) -> f64 {
+        let (mut lo, mut hi) = (0.0, MAX_CONVERSION);
+        for _ in 0..200 {
+            let mid = 0.5 * (lo + hi);
+            if closed_form(a0, mid) < n {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        0.5 * (lo + hi)
+    }
+
+    const K_V: f64 = 2.0e-7; // einstein per J/m² (demo geometry)
+
+    fn config(a0: f64, model: AbsorbanceModel) -> PhotochemConfig<'static> {
+        PhotochemConfig {
+            band: Band::Line(Wavelength::from_nm(405.0)),
+            vessel: VesselGeometry::FluxFactor {
+                factor: PhotonFluxPerIrradiance::from_mol_per_s_per_w_per_m2(K_V),
+                transmission: Transmission::LOSSLESS,
+            },
+            absorption: Absorption::Absorbance(Absorbance::from_decadic(a0)),
+            model,
+            reactant: Some(ChemicalAmount::from_umol(0.6)),
+            quantum_yield: Some(QuantumYield::new(0.3).unwrap()),
+        }
+    }
+
+    const ABSORBANCES: [f64; 14] = [
+        1e-6, 1e-3, 0.01, 0.1, 0.3, 1.0, 2.0, 3.0, 5.0, 10.0, 30.0, 100.0, 1e3, 1e4,
+    ];
+    const CONVERSIONS: [f64; 9] = [1e-6, 1e-3, 0.01, 0.1, 0.5, 0.9, 0.99, 0.995, MAX_CONVERSION];
+
+    #[test]
+    fn depletion_integral_matches_the_closed_form() {
+        let mut worst = 0.0_f64;
+        for a0 in ABSORBANCES {
+            let integral = DepletionIntegral::new(Profile::Single(a0));
+            let curve = Depletion::new(&integral).unwrap();
+            for x in CONVERSIONS {
+                let direct = integral.integral_to(x).unwrap();
+                let via_curve = curve.integral_to(&integral, x).unwrap();
+                let exact = closed_form(a0, x);
+                worst = worst.max((direct / exact - 1.0).abs());
+                assert!((via_curve / direct - 1.0).abs() < 1e-12, "{a0} {x}");
+            }
+        }
+        eprintln!("worst relative quadrature error against the closed form: {worst:e}");
+        // The margin added to targets must cover the quadrature error with room to spare.
+        assert!(worst < 1e-8, "worst relative quadrature error {worst}");
+        assert!(worst * 10.0 < DEPLETION_TARGET_MARGIN);
+    }
+
+    #[test]
+    fn depletion_targets_never_undershoot_the_closed_form() {
+        for a0 in ABSORBANCES {
+            let r = Reactor::new(&config(a0, AbsorbanceModel::FallsWithConversion)).unwrap();
+            for x in CONVERSIONS {
+                let h = r
+                    .conversion_target_to_exposure(Conversion::from_fraction(x))
+                    .unwrap();
+                // Exact incident einstein for X: (n₀/Φ)·I(X), from the closed form.
+                let exact = 0.6e-6 / 0.3 * closed_form(a0, x);
+                let ratio = h.j_per_m2() * K_V / exact;
+                assert!(
+                    (1.0..1.0 + 2.0 * DEPLETION_TARGET_MARGIN).contains(&ratio),
+                    "{a0} {x} {ratio}"
+                );
+                let limit = r
+                    .conversion_to_exposure(Conversion::from_fraction(x), Rounding::NotAfter)
+                    .unwrap();
+                assert!(limit.j_per_m2() * K_V <= exact, "{a0} {x}");
+            }
+        }
+    }
+
+    #[test]
+    fn absorbed_target_under_depletion_is_the_conversion_target() {
+        // X = Φ · N_abs / n₀ (definition of Φ), so 1 µeinstein absorbed at Φ = 0.3 with
+        // 0.6 µmol reactant is X = 0.5.
+        let r = Reactor::new(&config(0.8, AbsorbanceModel::FallsWithConversion)).unwrap();
+        let a = r
+            .absorbed_target_to_exposure(PhotonAmount::from_umol(1.0))
+            .unwrap();
+        let c = r
+            .conversion_target_to_exposure(Conversion::from_fraction(0.5))
+            .unwrap();
+        assert!((a.j_per_m2() / c.j_per_m2() - 1.0).abs() < 1e-14);
+        // 2 µeinstein would need X = 1.0: beyond the model.
+        assert_eq!(
+            r.absorbed_target_to_exposure(PhotonAmount::from_umol(2.0)),
+            Err(PhotochemError::Conversion)
+        );
+    }
+
+    #[test]
+    fn conversion_read_out_stays_within_its_bound() {
+        for a0 in ABSORBANCES {
+            let r = Reactor::new(&config(a0, AbsorbanceModel::FallsWithConversion)).unwrap();
+            let bound = r.conversion_error_bound().unwrap();
+            assert!(bound < 3e-3, "{a0} bound {bound}");
+            let n_max = closed_form(a0, MAX_CONVERSION);
+            let mut worst = 0.0_f64;
+            let mut last = 0.0;
+            for i in 1..=400 {
+                let n = n_max * f64::from(i) / 401.0;
+                // normalised n = Φ · N_in / n₀ → H = n · n₀ / (Φ · k_v)
+                let h = RadiantExposure::from_j_per_m2(n * 0.6e-6 / 0.3 / K_V);
+                let e = r.estimate(h);
+                assert!(e.within_model);
+                let x = e.conversion.unwrap().fraction();
+                assert!(x >= last, "conversion estimate must not decrease");
+                last = x;
+                worst = worst.max((x - conversion_from_closed_form(a0, n)).abs());
+            }
+            eprintln!("A0 = {a0:e}: read-out error {worst:.3e}, bound {bound:.3e}");
+            assert!(worst <= bound, "{a0}: error {worst} > bound {bound}");
+        }
+    }
+
+    #[test]
+    fn estimate_past_the_curve_end_is_flagged() {
+        let r = Reactor::new(&config(1.0, AbsorbanceModel::FallsWithConversion)).unwrap();
+        let n = closed_form(1.0, MAX_CONVERSION) * 1.5;
+        let e = r.estimate(RadiantExposure::from_j_per_m2(n * 0.6e-6 / 0.3 / K_V));
+        assert!(!e.within_model);
+        assert_eq!(
+            e.conversion,
+            Some(Conversion::from_fraction(MAX_CONVERSION))
+        );
+    }
+
+    #[test]
+    fn constant_model_is_a_constant_times_exposure() {
+        let r = Reactor::new(&config(0.5, AbsorbanceModel::Constant)).unwrap();
+        // f at A = 0.5: 1 − 10^(−0.5) (computed).
+        let f = 1.0 - 10f64.powf(-0.5);
+        assert!((r.initial_absorbed_fraction().value() / f - 1.0).abs() < 1e-12);
+        let target = PhotonAmount::from_umol(0.25);
+        let h = r.absorbed_target_to_exposure(target).unwrap();
+        let back = r.estimate(h);
+        assert!(back.absorbed.mol() >= target.mol());
+        assert!((back.absorbed.mol() / target.mol() - 1.0) < 1e-14);
+        // product = Φ × absorbed; conversion = product / n₀ (definitions).
+        let p = back.product.unwrap().mol();
+        assert!((p / (0.3 * back.absorbed.mol()) - 1.0).abs() < 1e-14);
+        let x = back.conversion.unwrap().fraction();
+        assert!((x / (p / 0.6e-6) - 1.0).abs() < 1e-14);
+        assert!(r.conversion_error_bound().is_none());
+        let lim = r.absorbed_to_exposure(target, Rounding::NotAfter).unwrap();
+        assert!(lim.j_per_m2() < h.j_per_m2());
+        // Conversion beyond 1 in the constant model is outside the model.
+        assert!(
+            !r.estimate(RadiantExposure::from_j_per_m2(h.j_per_m2() * 10.0))
+                .within_model
+        );
+    }
+
+    #[test]
+    fn bad_configurations_and_targets_are_named() {
+        let mut c = config(0.5, AbsorbanceModel::FallsWithConversion);
+        c.reactant = None;
+        assert_eq!(Reactor::new(&c), Err(PhotochemError::ReactantRequired));
+        let mut c = config(0.5, AbsorbanceModel::FallsWithConversion);
+        c.quantum_yield = None;
+        assert_eq!(Reactor::new(&c), Err(PhotochemError::QuantumYieldRequired));
+        assert_eq!(
+            Reactor::new(&config(0.0, AbsorbanceModel::FallsWithConversion)),
+            Err(PhotochemError::NothingAbsorbed)
+        );
+        for bad in [-0.1, f64::NAN, f64::INFINITY] {
+            assert_eq!(
+                Reactor::new(&config(bad, AbsorbanceModel::Constant)),
+                Err(PhotochemError::Absorbance)
+            );
+        }
+        let mut c = config(0.5, AbsorbanceModel::Constant);
+        c.reactant = Some(ChemicalAmount::from_mol(-1.0));
+        assert_eq!(Reactor::new(&c), Err(PhotochemError::Amount));
+
+        let clear = Reactor::new(&config(0.0, AbsorbanceModel::Constant)).unwrap();
+        assert_eq!(
+            clear.absorbed_target_to_exposure(PhotonAmount::from_umol(1.0)),
+            Err(PhotochemError::NothingAbsorbed)
+        );
+        let r = Reactor::new(&config(0.5, AbsorbanceModel::Constant)).unwrap();
+        for bad in [0.0, -1.0, f64::NAN] {
+            assert_eq!(
+                r.absorbed_target_to_exposure(PhotonAmount::from_mol(bad)),
+                Err(PhotochemError::Target)
+            );
+        }
+        for bad in [0.0, 1.0, 0.9995, f64::NAN] {
+            assert_eq!(
+                r.conversion_target_to_exposure(Conversion::from_fraction(bad)),
+                Err(PhotochemError::Conversion)
+            );
+        }
+        let mut c = config(0.5, AbsorbanceModel::Constant);
+        c.quantum_yield = None;
+        let r = Reactor::new(&c).unwrap();
+        assert_eq!(
+            r.conversion_target_to_exposure(Conversion::from_fraction(0.5)),
+            Err(PhotochemError::QuantumYieldRequired)
+        );
+        assert!(r
+            .estimate(RadiantExposure::from_j_per_m2(1.0))
+            .product
+            .is_none());
     }
 }
