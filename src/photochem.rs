@@ -64,8 +64,9 @@
 //!
 //! The running conversion estimate reads a precomputed curve of [`DEPLETION_CURVE_POINTS`]
 //! (N_in, X) nodes by linear interpolation (no transcendental function at read-out). X(N_in)
-//! is concave, so the chord lies below the curve and the tangents at the nodes above it; the
-//! gap between them bounds the read-out error, and
+//! is concave, so the chord lies below the curve and the tangents at the nodes above it: the
+//! read-out is a lower bound of the model's conversion, the gap between chord and tangents
+//! bounds its error, and
 //! [`Reactor::conversion_error_bound`](reactor::Reactor::conversion_error_bound) reports it
 //! for the configuration: below 2.8e-3 in conversion at small A₀ (where the actual error is
 //! about half that) and smaller at large A₀. The stop targets do not use this curve.

@@ -95,7 +95,10 @@ pub struct Estimate {
     pub absorbed: PhotonAmount,
     /// Product formed, Φ × absorbed (needs Φ).
     pub product: Option<ChemicalAmount>,
-    /// Conversion of the reactant (needs Φ and the reactant amount).
+    /// Conversion of the reactant (needs Φ and the reactant amount). Constant model: exact
+    /// arithmetic. Depletion model: the chord of the concave conversion curve, so it does not
+    /// exceed the model's conversion (up to the quadrature error) and lies below it by at
+    /// most [`Reactor::conversion_error_bound`].
     pub conversion: Option<Conversion>,
     /// `false` once the prediction leaves the model: the constant model's conversion passed
     /// [`MAX_CONVERSION`], or the depletion curve's end was reached (the values then stay at
@@ -354,7 +357,9 @@ impl<'a> Reactor<'a> {
 
     /// Bound on the error of [`Reactor::estimate`]'s conversion (absolute, as a fraction)
     /// from the read-out interpolation of the depletion model; `None` for the constant model,
-    /// whose estimate is exact arithmetic.
+    /// whose estimate is exact arithmetic. The read-out is a lower bound: the model's
+    /// conversion lies between it and it plus this bound. The stop targets do not use the
+    /// read-out.
     #[must_use]
     pub fn conversion_error_bound(&self) -> Option<f64> {
         self.depletion.as_ref().map(|d| d.error_bound)
@@ -672,7 +677,12 @@ mod tests {
                 let x = e.conversion.unwrap().fraction();
                 assert!(x >= last, "conversion estimate must not decrease");
                 last = x;
-                worst = worst.max((x - conversion_from_closed_form(a0, n)).abs());
+                let exact = conversion_from_closed_form(a0, n);
+                assert!(
+                    x <= exact + 1e-9,
+                    "read-out must not exceed the model: {a0} {n}"
+                );
+                worst = worst.max(exact - x);
             }
             eprintln!("A0 = {a0:e}: read-out error {worst:.3e}, bound {bound:.3e}");
             assert!(worst <= bound, "{a0}: error {worst} > bound {bound}");
