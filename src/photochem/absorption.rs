@@ -9,7 +9,7 @@
 use crate::band::Band;
 use crate::quantity::Wavelength;
 
-use super::grid::band_mean;
+use super::grid::{band_mean, BandNodes, ABSORPTION_GRID_POINTS};
 use super::units::{
     Absorbance, AbsorbedFraction, Concentration, MolarAbsorptionCoefficient, PathLength,
 };
@@ -181,14 +181,16 @@ pub enum Absorption<'a> {
 pub(crate) enum Profile<'a> {
     /// One absorbance for the band.
     Single(f64),
-    /// A table averaged over the band.
-    Spectral(&'a AbsorbanceTable, Band),
+    /// A table averaged over the band's nodes.
+    Spectral(&'a AbsorbanceTable, BandNodes),
 }
 
 impl<'a> Profile<'a> {
-    /// Validate `absorption` for `band`; a table must cover the band's nodes.
-    pub(crate) fn new(absorption: &Absorption<'a>, band: &Band) -> Result<Self, PhotochemError> {
-        let nodes = super::grid::BandNodes::new(band)?;
+    /// Validate `absorption` for a band's nodes; a table must cover them.
+    pub(crate) fn new(
+        absorption: &Absorption<'a>,
+        nodes: BandNodes,
+    ) -> Result<Self, PhotochemError> {
         Ok(match *absorption {
             Absorption::Absorbance(a) => Self::Single(a.validated()?.decadic()),
             Absorption::BeerLambert {
@@ -202,7 +204,7 @@ impl<'a> Profile<'a> {
                 if lo < tlo.nm() || hi > thi.nm() {
                     return Err(PhotochemError::WavelengthOutsideTable);
                 }
-                Self::Spectral(t, *band)
+                Self::Spectral(t, nodes)
             }
         })
     }
@@ -212,8 +214,63 @@ impl<'a> Profile<'a> {
     pub(crate) fn mean_fraction(&self, scale: f64) -> Result<f64, PhotochemError> {
         match *self {
             Self::Single(a) => Ok(fraction_of(a * scale)),
-            Self::Spectral(t, band) => band_mean(&band, |nm| Ok(fraction_of(t.at_nm(nm)? * scale))),
+            Self::Spectral(t, nodes) => {
+                band_mean(nodes, |nm| Ok(fraction_of(t.at_nm(nm)? * scale)))
+            }
         }
+    }
+}
+
+/// The band average reduced to its terms for repeated evaluation (the depletion integral).
+///
+/// A single absorbance keeps a = A ln 10 in `f64`. A table keeps, per band node, a and the
+/// normalised photon weight in `f32`, and evaluates `expm1f`: one evaluation is one `f32`
+/// `expm1` per node (about 2.7k instructions in software on a Cortex-M0, against 8.1k for
+/// the `f64` one; hardware on an M4F), with a relative error of about 1e-7 that the depletion
+/// target margin covers.
+// No allocator to box into; a short-lived configuration-time value (808 B of stack).
+#[allow(clippy::large_enum_variant)]
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) enum Terms {
+    /// One absorbance, as a = A ln 10.
+    Single(f64),
+    /// (a, normalised weight) per band node.
+    Spectral(heapless::Vec<(f32, f32), { ABSORPTION_GRID_POINTS as usize }>),
+}
+
+impl Terms {
+    pub(crate) fn new(profile: &Profile<'_>) -> Result<Self, PhotochemError> {
+        match *profile {
+            Profile::Single(a) => Ok(Self::Single(a * core::f64::consts::LN_10)),
+            Profile::Spectral(t, nodes) => {
+                let total: f64 = nodes.map(|(_, w)| w).sum();
+                if !(total > 0.0 && total.is_finite()) {
+                    return Err(PhotochemError::NotRepresentable);
+                }
+                let mut v = heapless::Vec::new();
+                for (nm, w) in nodes {
+                    let a = t.at_nm(nm)? * core::f64::consts::LN_10;
+                    // Narrowing to f32 is the point here (see the type's documentation).
+                    v.push((a as f32, (w / total) as f32))
+                        .map_err(|_| PhotochemError::NotRepresentable)?;
+                }
+                Ok(Self::Spectral(v))
+            }
+        }
+    }
+
+    /// Photon-weighted mean of 1 − 10^(−A(λ)·scale), 0 ≤ scale ≤ 1.
+    pub(crate) fn mean_fraction(&self, scale: f64) -> f64 {
+        let f = match self {
+            Self::Single(a) => -libm::expm1(-a * scale),
+            Self::Spectral(v) => {
+                let s = scale as f32;
+                v.iter()
+                    .map(|&(a, w)| -f64::from(w) * f64::from(libm::expm1f(-a * s)))
+                    .sum()
+            }
+        };
+        f.clamp(0.0, 1.0)
     }
 }
 
@@ -227,7 +284,7 @@ pub fn band_fraction_absorbed(
     absorption: &Absorption<'_>,
     band: &Band,
 ) -> Result<AbsorbedFraction, PhotochemError> {
-    let f = Profile::new(absorption, band)?.mean_fraction(1.0)?;
+    let f = Profile::new(absorption, BandNodes::new(band)?)?.mean_fraction(1.0)?;
     AbsorbedFraction::new(f)
 }
 

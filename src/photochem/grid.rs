@@ -20,13 +20,17 @@ pub const ABSORPTION_GRID_POINTS: u32 = 101;
 pub const ABSORPTION_TRUNCATION_SIGMA: f64 = 4.0;
 
 /// The band's photon-spectrum nodes: (vacuum wavelength in nm, unnormalised weight).
-#[derive(Debug, Clone, Copy)]
+///
+/// A copy restarts at the first node, so a stored layout can be iterated many times.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub(crate) struct BandNodes {
     kind: Kind,
     next: u32,
 }
 
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 enum Kind {
     Line {
         nm: f64,
@@ -40,9 +44,16 @@ enum Kind {
 }
 
 impl BandNodes {
-    /// Validate the band (as [`BandFactors::new`] does) and lay out its nodes.
+    /// Validate the band (as [`BandFactors::new`] does, with its cost: an 801-point
+    /// integral for an LED) and lay out its nodes.
     pub(crate) fn new(band: &Band) -> Result<Self, PhotochemError> {
-        BandFactors::new(band).map_err(PhotochemError::Band)?;
+        let factors = BandFactors::new(band).map_err(PhotochemError::Band)?;
+        Ok(Self::from_validated(band, &factors))
+    }
+
+    /// Lay out the nodes of a band already validated: `_validated` is the proof (a band
+    /// only has factors once [`BandFactors::new`] accepted it).
+    pub(crate) fn from_validated(band: &Band, _validated: &BandFactors) -> Self {
         let kind = match *band {
             Band::Line(w) => Kind::Line { nm: w.nm() },
             Band::Led { peak, fwhm } => {
@@ -63,7 +74,7 @@ impl BandNodes {
                 }
             }
         };
-        Ok(Self { kind, next: 0 })
+        Self { kind, next: 0 }
     }
 
     /// Shortest and longest wavelength of the nodes, nm.
@@ -116,15 +127,15 @@ impl Iterator for BandNodes {
     }
 }
 
-/// Photon-weighted mean of `value(λ_nm)` over the band; the first error of `value` is
+/// Photon-weighted mean of `value(λ_nm)` over the nodes; the first error of `value` is
 /// returned.
-pub(crate) fn band_mean<F>(band: &Band, mut value: F) -> Result<f64, PhotochemError>
+pub(crate) fn band_mean<F>(nodes: BandNodes, mut value: F) -> Result<f64, PhotochemError>
 where
     F: FnMut(f64) -> Result<f64, PhotochemError>,
 {
     let mut num = 0.0;
     let mut den = 0.0;
-    for (nm, w) in BandNodes::new(band)? {
+    for (nm, w) in nodes {
         num += w * value(nm)?;
         den += w;
     }

@@ -15,12 +15,12 @@
 
 use crate::quantity::{PhotonAmount, PhotonFlux, RadiantExposure};
 
-use super::absorption::Profile;
-use super::reactor::{AbsorbanceModel, DepletionIntegral, PhotochemConfig, MAX_CONVERSION};
+use super::reactor::{
+    prepare, AbsorbanceModel, DepletionIntegral, PhotochemConfig, MAX_CONVERSION,
+};
 use super::units::{
     AbsorbedFraction, ChemicalAmount, PhotonFluxPerIrradiance, QuantumYield, ReactionRate,
 };
-use super::vessel::Vessel;
 use super::{non_negative, positive, PhotochemError};
 
 /// Φ = events ÷ photons absorbed (integral quantum yield, IUPAC).
@@ -118,8 +118,7 @@ pub fn quantum_yield_from_run(
     sensor_exposure: RadiantExposure,
     converted: ChemicalAmount,
 ) -> Result<QuantumYieldRecord, PhotochemError> {
-    let vessel = Vessel::new(&config.vessel, &config.band)?;
-    let profile = Profile::new(&config.absorption, &config.band)?;
+    let (vessel, profile) = prepare(config)?;
     let f0 = AbsorbedFraction::new(profile.mean_fraction(1.0)?)?;
     if !positive(sensor_exposure.j_per_m2()) {
         return Err(PhotochemError::Exposure);
@@ -147,7 +146,7 @@ pub fn quantum_yield_from_run(
             if x > MAX_CONVERSION {
                 return Err(PhotochemError::Conversion);
             }
-            let i = DepletionIntegral::new(profile).integral_to(x)?;
+            let i = DepletionIntegral::new(&profile)?.integral_to(x)?;
             let phi = QuantumYield::new(r.mol() * i / incident.mol())?;
             (phi, PhotonAmount::from_mol(converted.mol() / phi.value()))
         }

@@ -2,7 +2,7 @@
 //! inside, the unit in every constructor and accessor name (as in [`crate::quantity`]).
 //!
 //! Constructors do not validate (they are `const`); the functions that use a value check it
-//! once and name what is wrong ([`PhotochemError`](super::PhotochemError)).
+//! once and name what is wrong ([`super::PhotochemError`]).
 //!
 //! | type | stored in | common unit |
 //! | --- | --- | --- |

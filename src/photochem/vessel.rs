@@ -56,6 +56,14 @@ impl Vessel {
     /// [`PhotochemError::Transmission`] or [`PhotochemError::Band`] naming the bad input.
     pub fn new(geometry: &VesselGeometry, band: &Band) -> Result<Self, PhotochemError> {
         let factors = BandFactors::new(band).map_err(PhotochemError::Band)?;
+        Self::from_factors(geometry, &factors)
+    }
+
+    /// As [`Vessel::new`] with the band's factors already computed.
+    pub(crate) fn from_factors(
+        geometry: &VesselGeometry,
+        factors: &BandFactors,
+    ) -> Result<Self, PhotochemError> {
         let (k, t) = match *geometry {
             VesselGeometry::IlluminatedArea { area, transmission } => {
                 if !positive(area.m2()) {
