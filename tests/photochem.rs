@@ -601,7 +601,11 @@ fn quantum_yield_from_a_depleting_run_inverts_the_model() {
         .mol();
     let h = RadiantExposure::from_j_per_m2(n_in / per_h);
     let rec = quantum_yield_from_run(&config, h, ChemicalAmount::from_umol(0.18)).unwrap();
-    assert!(rel(rec.quantum_yield.value(), 0.37) < 1e-8, "{:?}", rec);
+    // Within the quadrature margin of the depletion integral.
+    assert!(
+        rel(rec.quantum_yield.value(), 0.37) < photon_ledger::photochem::DEPLETION_TARGET_MARGIN,
+        "{rec:?}"
+    );
     // Mean absorbed fraction X/I(X) lies below the initial one (the sample bleaches).
     assert!(rec.mean_absorbed_fraction.value() < rec.initial_absorbed_fraction.value());
     // Bad inputs: nothing converted, more than the model covers, no exposure, no reactant.
