@@ -64,6 +64,12 @@ pub fn beer_lambert(
 /// wavelength, absorbance) points with strictly increasing wavelengths, linear interpolation
 /// between them. The absorbance is that of the sample as irradiated (its own concentration
 /// and path length) — for example ε(λ)·c·l from a spectrum.
+///
+/// The band average samples the table at the band's nodes (for an LED, 101 nodes over
+/// ±4 σ: about 0.5 nm apart for a 14 nm FWHM at 405 nm). Features narrower than a few node
+/// spacings (a sharp absorption edge or line) are not resolved: against a 200 001-point
+/// integration, a 6 nm wide absorption spike gave errors of 1e-3 to 1e-2 in f, smooth
+/// spectra ≤ 3e-5.
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct AbsorbanceTable {

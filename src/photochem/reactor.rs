@@ -17,11 +17,13 @@
 //!
 //! # Cost
 //!
-//! Nothing is added to the per-sample path. [`Reactor::new`] evaluates the band average
-//! f(X) at 1 + 4 × 64 points for the depletion model (each a sum over 1 node for a single
-//! absorbance, or [`ABSORPTION_GRID_POINTS`](super::ABSORPTION_GRID_POINTS) nodes for a
-//! table over an LED band). [`Reactor::estimate`] is multiplies, adds and a scan of at most
-//! [`DEPLETION_CURVE_POINTS`] nodes — no transcendental function.
+//! Nothing is added to the per-sample path. [`Reactor::new`] validates the band once and,
+//! for the depletion model, evaluates the band average f(X) at 1 + 2 × 64 points (each a
+//! sum over 1 node for a single absorbance, or
+//! [`ABSORPTION_GRID_POINTS`](super::ABSORPTION_GRID_POINTS) nodes in `f32` for a table over
+//! an LED band); a depletion target adds 3 more. Measured instruction counts are in the
+//! `photochem` module documentation. [`Reactor::estimate`] is multiplies, adds and a scan of
+//! at most [`DEPLETION_CURVE_POINTS`] nodes — no transcendental function.
 
 use crate::band::{Band, BandFactors};
 use crate::dose::Rounding;
