@@ -328,7 +328,7 @@ fn main() -> Result<(), String> {
         .map_err(err)?;
     println!(
         "f at start {:.4} (band-averaged); assumed Φ 0.25 → stop at {:.1} J/m² sensor exposure; \
-         overexposure limit {:.1} J/m²; conversion read-out bound ±{:.1e}",
+         overexposure limit {:.1} J/m²; conversion read-out within {:.1e} below the model",
         reactor.initial_absorbed_fraction().value(),
         h_target.j_per_m2(),
         h_limit.j_per_m2(),
