@@ -7,8 +7,10 @@
 //! quantum yield Φ(λ). An aliquot V₂ is mixed with 1,10-phenanthroline and buffer and made
 //! up to V₃; the red Fe(phen)₃²⁺ complex is measured at 510 nm against a dark (unirradiated)
 //! blank in a cell of path l. Then (Hatchard & Parker, Proc. R. Soc. A 235, 518 (1956); the
-//! working-equation form of the IUPAC technical report, Kuhn, Braslavsky & Schmidt,
-//! Pure Appl. Chem. 76, 2105–2146 (2004)):
+//! working equation in the form usually quoted from the IUPAC technical report, Kuhn,
+//! Braslavsky & Schmidt, Pure Appl. Chem. 76, 2105–2146 (2004) — the report's exact notation
+//! is from memory, not verified; the form follows from the Beer–Lambert law and the
+//! dilution steps):
 //!
 //! ```text
 //!  n(Fe²⁺) = ΔA₅₁₀ · V₁ · V₃ / (ε₅₁₀ · l · V₂)                      mol
