@@ -55,6 +55,9 @@
 //! 9. [`record`] — the on-flash record format: byte layout, CRC-32, version rule.
 //! 10. [`journal`] — the session journal on NOR flash (`embedded-storage`): survives a power
 //!     cut at any byte, recovers the open session and resumes with a conservative dose.
+//! 8. [`photochem`] — photons into a vessel, absorbed photons, targets in absorbed einstein
+//!    or conversion (as radiant-exposure targets for the session), quantum yields and
+//!    ferrioxalate actinometry.
 //!
 //! Physical quantities are newtypes with the unit in every name ([`quantity`]). Time is
 //! always an argument: the library never reads a clock.
@@ -137,6 +140,7 @@ pub mod exposure;
 pub mod frontend;
 pub mod irradiance;
 pub mod journal;
+pub mod photochem;
 pub mod plausibility;
 pub mod quantity;
 pub mod reading;
@@ -162,6 +166,8 @@ pub mod prelude {
     pub use crate::irradiance::{Calibration, Meter};
     pub use crate::journal::checkpoint::{CheckpointConfig, Checkpointer};
     pub use crate::journal::{Journal, JournalConfig, JournalError, Retention};
+    pub use crate::photochem::reactor::{AbsorbanceModel, PhotochemConfig, Reactor};
+    pub use crate::photochem::vessel::VesselGeometry;
     pub use crate::quantity::{
         Area, Current, Irradiance, IrradiancePerCurrent, PhotonAmount, PhotonExposure, PhotonFlux,
         PhotonIrradiance, RadiantExposure, Responsivity, Seconds, Transimpedance, Voltage,
