@@ -96,8 +96,9 @@
 //! after a checkpoint was acknowledged, when the next one is a whole interval away (or in idle
 //! time, with the source off). It does nothing when the spare is ready, or while the head holds
 //! no record yet (the next record then goes into the head or reopens it in place, and the
-//! head could still step back; see above), so calling it after every checkpoint is cheap. An erase (typically 20–400 ms on NOR flash) must fit in the
-//! time left before the next checkpoint is due; nothing on the per-sample path touches flash.
+//! head could still step back; see above), so calling it after every checkpoint is cheap. An
+//! erase (typically 20–400 ms on NOR flash) must fit in the time left before the next
+//! checkpoint is due; nothing on the per-sample path touches flash.
 //! If `maintain` was never called, the erase happens inside the `append` that needs the new
 //! sector (still a record boundary, never a sample) — documented fallback, not the plan.
 //!
@@ -776,7 +777,9 @@ impl<F: NorFlash> Journal<F> {
     }
 
     /// The fewest most-recent records of `record_len` encoded bytes the ring is guaranteed to
-    /// hold (with [`Retention::Ring`]): `(n − 2)` sectors' worth after the header and restatement, if no program failed.
+    /// hold (with [`Retention::Ring`]): `(n − 2)` sectors' worth after the header and
+    /// restatement, if no program failed and, with [`WordRule::WriteOnce`], no mount sealed a
+    /// partly used head.
     pub const fn min_retained_records(&self, record_len: usize) -> u32 {
         let g = &self.geometry;
         (g.sectors - 2).saturating_mul(g.records_per_sector(record_len))
