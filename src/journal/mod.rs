@@ -61,13 +61,21 @@
 //! record goes to the next sector.
 //!
 //! When the next record does not fit, the journal opens the next sector in the ring: it
-//! programs the sector header, then restates the open session — its start record and latest
-//! checkpoint — in **one** record ([`Body::Restate`]), so the
-//! newest sector that holds any record is always enough to recover an open session. A sector
+//! seals the old head, programs the sector header, then restates the open session — its start
+//! record and latest checkpoint — in **one** record ([`Body::Restate`]), so the
+//! newest sector that holds any record is always enough to recover an open session. The old
+//! head is sealed *before* the header is programmed: the header names the next record number
+//! as its first, so even if programming or reading back the header fails, no later record
+//! lands in an older sector behind it. A sector
 //! whose header was programmed but which holds no valid record yet (a cut during its first
 //! record) is erased and reopened **in place**: repeated cuts never move the ring forward and
 //! never release older sectors. After a mount, a head without records while a session is open
 //! gets its restatement before the next record.
+//!
+//! A cut during that in-place erase steps the head back one sector, and the retained window
+//! (below) with it: the sector that was the spare is retained again. That is why the spare is
+//! left alone while the head holds no record (see [`Journal::maintain`]): it then still holds
+//! whole sectors' worth of the oldest records, never the remains of an interrupted erase.
 //!
 //! Retention: the head and the `n − 2` sectors before it are kept. Without failures that is at
 //! least `(n − 2) · ⌊(ERASE_SIZE − header − restatement) / s⌋` of the most recent records of
@@ -86,9 +94,11 @@
 //! only programs (no erase). Erasing the next spare — the recycling of the oldest sector — is
 //! done by [`Journal::maintain`], which the integrator calls **at a checkpoint boundary**: right
 //! after a checkpoint was acknowledged, when the next one is a whole interval away (or in idle
-//! time, with the source off). It does nothing when the spare is ready, so calling it after
-//! every checkpoint is cheap. An erase (typically 20–400 ms on NOR flash) must fit in the
-//! time left before the next checkpoint is due; nothing on the per-sample path touches flash.
+//! time, with the source off). It does nothing when the spare is ready, or while the head holds
+//! no record yet (the next record then goes into the head or reopens it in place, and the
+//! head could still step back; see above), so calling it after every checkpoint is cheap. An
+//! erase (typically 20–400 ms on NOR flash) must fit in the time left before the next
+//! checkpoint is due; nothing on the per-sample path touches flash.
 //! If `maintain` was never called, the erase happens inside the `append` that needs the new
 //! sector (still a record boundary, never a sample) — documented fallback, not the plan.
 //!
@@ -110,7 +120,9 @@
 //! hold no record (a cut right after a sector header). The open session is the last start
 //! (or restatement) with no end record after it; its dose is the bound of the last checkpoint
 //! of that session ([`OpenSession::dose_bound`]). Every record number is used once, also by a
-//! program that failed (its record may be on flash).
+//! program that failed (its record may be on flash). The next number is one past the newest
+//! record; for a head without records, the first record its header names, but never below
+//! one past the newest record before it.
 //!
 //! Any flash content mounts or returns a named error: garbage and foreign images mount as an
 //! empty journal (every sector untrusted; see [`MountReport`]), a sector of a newer major
@@ -587,7 +599,8 @@ pub struct Journal<F> {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum Maintenance {
-    /// The spare sector was already prepared; nothing done.
+    /// Nothing done: the spare sector was already prepared, or it is not needed yet (the
+    /// head holds no record, so the next record goes into the head or reopens it in place).
     Idle,
     /// The spare was blank-checked and found blank (reads only).
     Verified,
@@ -675,11 +688,19 @@ impl<F: NorFlash> Journal<F> {
             records: scan.records,
         });
         self.report.torn_tail = scan.sealed;
-        self.next_seq = match scan.last_seq {
+        let (open, newest) = self.recover(index, seq, scan)?;
+        let after_newest = match newest {
             Some(s) => s.checked_add(1).ok_or(JournalError::Exhausted)?,
-            None => first_record.max(1),
+            None => 1,
         };
-        self.open = self.recover(index, seq, scan)?;
+        self.next_seq = match scan.last_seq {
+            Some(_) => after_newest,
+            // A head without records: its header names the next number. Never below one past
+            // the newest record before it, so no number is used twice even on an image where
+            // records were appended behind a newer header (written before that was prevented).
+            None => first_record.max(after_newest),
+        };
+        self.open = open;
         self.recovered = self.open;
         // A head without records while a session is open was cut between its header and its
         // restatement: restate before the next record.
@@ -755,13 +776,16 @@ impl<F: NorFlash> Journal<F> {
         self.next_seq
     }
 
-    /// Whether [`Journal::maintain`] has work to do (the spare sector is not prepared).
+    /// Whether [`Journal::maintain`] has work to do (the spare sector is needed and not
+    /// prepared).
     pub fn needs_maintenance(&self) -> bool {
-        self.spare_ready != Some(self.next_index())
+        self.spare_due() && self.spare_ready != Some(self.next_index())
     }
 
     /// The fewest most-recent records of `record_len` encoded bytes the ring is guaranteed to
-    /// hold (with [`Retention::Ring`]): `(n − 2)` sectors' worth after the header and restatement, if no program failed.
+    /// hold (with [`Retention::Ring`]): `(n − 2)` sectors' worth after the header and
+    /// restatement, if no program failed and, with [`WordRule::WriteOnce`], no mount sealed a
+    /// partly used head.
     pub const fn min_retained_records(&self, record_len: usize) -> u32 {
         let g = &self.geometry;
         (g.sectors - 2).saturating_mul(g.records_per_sector(record_len))
@@ -833,11 +857,15 @@ impl<F: NorFlash> Journal<F> {
     /// Prepare the spare sector (blank-check, erase if needed). Call at a checkpoint boundary
     /// (right after a checkpoint was acknowledged) or when idle; see the module doc.
     ///
+    /// Returns [`Maintenance::Idle`] without touching the flash while the head holds no record
+    /// (the next record does not need the spare, and a cut could still step the head back and
+    /// bring the spare into the retained window).
+    ///
     /// # Errors
     /// [`JournalError::Flash`] or [`JournalError::BadSector`].
     pub fn maintain(&mut self) -> Res<Maintenance, F> {
         let target = self.next_index();
-        if self.spare_ready == Some(target) {
+        if self.spare_ready == Some(target) || !self.spare_due() {
             return Ok(Maintenance::Idle);
         }
         if self.config.retention == Retention::KeepAll && self.holds_records(target)? {
@@ -857,6 +885,17 @@ impl<F: NorFlash> Journal<F> {
 
     fn next_index(&self) -> u32 {
         self.head.map_or(0, |h| self.geometry.next(h.index))
+    }
+
+    /// Whether the spare may be prepared now. Not while the head holds no record: such a
+    /// head is erased and reopened in place, and a cut during that erase steps the head back
+    /// one sector, which brings the spare back into the retained window. Left untouched, the
+    /// spare then still holds whole sectors' worth of the oldest records; half erased, it
+    /// would hold a stray prefix of them, separated from the newer records by a gap. A head
+    /// that holds a record is never erased before the ring has moved on, so from then on
+    /// the spare is free to erase.
+    fn spare_due(&self) -> bool {
+        self.head.is_none_or(|h| h.records > 0)
     }
 
     fn head_has_room(&self, slot: u32) -> bool {
@@ -939,6 +978,11 @@ impl<F: NorFlash> Journal<F> {
             self.prepare(target)?;
         }
         self.spare_ready = None;
+        // Leave the old head for good before its successor's header can be on flash: that
+        // header names `next_seq` as its first record, so a record appended to the old head
+        // afterwards (the header write or its read-back failed, but the header landed) would
+        // sit behind a newer sector and its number would be given out again after a mount.
+        self.seal();
         let mut hdr = [0u8; MAX_WRITE_SIZE];
         encode_sector_header(&mut hdr, seq, self.next_seq);
         let hlen = self.geometry.header as usize;
@@ -1087,13 +1131,14 @@ impl<F: NorFlash> Journal<F> {
 
     /// The open session: from the newest retained sector that holds a record. A sector
     /// opened while a session was open starts with its restatement, so that sector alone
-    /// decides; one without any boundary record was opened with no session open.
+    /// decides; one without any boundary record was opened with no session open. Also the
+    /// sequence number of the newest record (the last one of that sector), if any.
     fn recover(
         &mut self,
         head: u32,
         head_seq: u32,
         head_scan: SectorScan,
-    ) -> Res<Option<OpenSession>, F> {
+    ) -> Res<(Option<OpenSession>, Option<u32>), F> {
         let mut index = head;
         let mut seq = head_seq;
         let mut scan = head_scan;
@@ -1112,7 +1157,7 @@ impl<F: NorFlash> Journal<F> {
             if scan.records == 0 {
                 continue;
             }
-            return Ok(match scan.boundary {
+            let open = match scan.boundary {
                 Some(Body::Start(start)) => Some(OpenSession {
                     start,
                     checkpoint: scan.checkpoint_after,
@@ -1122,9 +1167,10 @@ impl<F: NorFlash> Journal<F> {
                     checkpoint: scan.checkpoint_after,
                 }),
                 _ => None,
-            });
+            };
+            return Ok((open, scan.last_seq));
         }
-        Ok(None)
+        Ok((None, None))
     }
 
     /// How many sectors before the head are retained.
