@@ -13,51 +13,55 @@
 //! ```text
 //!  photodiode ─ transimpedance amp (ranges) ─ ADC
 //!        │
-//!  reading     raw code + amplifier range + timestamp (ticks)       PhotodiodeAdc (nb)
-//!  autorange   range choice with hysteresis, select pins            OutputPin
-//!  frontend    code → net code → volts → photocurrent; saturation
-//!  band        band shape → photons per joule (configuration time)
-//!  spectrum    tables, sources, detector → W/m² per A, mismatch F* (configuration time)
-//!  weighting   action spectra → weighted/erythemal/UVI factors (configuration time)
-//!  calibration calibration record: CRC-sealed flash format, expiry, temperature
-//!  irradiance  photocurrent → W/m²; Meter joins every stage
-//!  dose        exact integer trapezoid integral, thresholds
-//!  session     target, tolerance, enable/alarm outputs, phases
-//!  curing      curing station: lag anticipation, window, interlock, records
-//!  record      the on-flash record format (versioned contract)
-//!  journal     power-loss-safe log on NOR flash, checkpoints, resume, CSV export
+//!  reading       raw code + amplifier range + timestamp (ticks)      PhotodiodeAdc (nb)
+//!  autorange     range choice with hysteresis, select pins           OutputPin
+//!  frontend      code → net code → volts → photocurrent; saturation
+//!  plausibility  stuck / pinned codes, negative current, rate, dark drift, flapping
+//!  band          band shape → photons per joule                      (configuration time)
+//!  spectrum      tables, sources, detector → W/m² per A, mismatch F*  (configuration time)
+//!  weighting     action spectra → weighted fractions, UVI, SED       (configuration time)
+//!  calibration   calibration record: CRC-sealed format, expiry
+//!  irradiance    photocurrent → W/m²; the Meter joins every stage
+//!  dose          exact integer trapezoid integral, thresholds in integer units
+//!  session       target, tolerance, enable/alarm outputs, phases
+//!  curing        curing station: lag anticipation, window, interlock, part records
+//!  exposure      personal exposure: rolling 8 h window, warnings, UVI/SED, display lines
+//!  photochem     photons into and absorbed by a vessel, quantum yield, actinometry
+//!  record        the on-flash record format (versioned contract)
+//!  journal       power-loss-safe log on NOR flash, checkpoints, resume, CSV export
 //! ```
 //!
-//! 1. [`reading`] — the [`PhotodiodeAdc`](reading::PhotodiodeAdc) trait (one non-blocking
-//!    method), the [`Reading`](reading::Reading) it yields once the caller stamps it with
-//!    a tick count, and adapters for a closure and (feature `ads1x1x`) for the ADS1x1x I²C
-//!    converters through their maintained driver.
-//! 2. [`autorange`] — picks the amplifier range and drives the analog switch.
-//! 3. [`frontend`] — validated converter and amplifier description; net (dark-corrected)
-//!    code, saturation flags, volts and photocurrent.
-//! 4. [`band`] — a line or an LED-like band, reduced to photons per joule.
-//!    [`spectrum`] — fixed-capacity spectral tables, line / LED / tabulated sources, a
-//!    detector responsivity table; the configuration-time integrals (effective responsivity,
-//!    photons per joule, spectral mismatch factor). [`weighting`] — none, CIE erythema,
-//!    ICNIRP/IEC 62471 S(λ), UV-A, user tables; UV index, SED, t_max; the
-//!    [`FactorSet`](weighting::FactorSet) of constants for the read-out.
-//!    [`calibration`] — the calibration record, its CRC-32 flash encoding, expiry policy,
-//!    temperature compensation and transfer calibration.
-//! 5. [`irradiance`] — calibration (responsivity × area or a certificate factor) and the
-//!    [`Meter`](irradiance::Meter) that combines all configuration into constants.
-//! 6. [`dose`] — the [`Integrator`](dose::Integrator): integer sums, segment per range,
-//!    thresholds pre-converted to integer units, explicit timing faults.
-//! 7. [`session`] — the [`Session`](session::Session): target in J/m², mol/m² or mol,
-//!    tolerance, phases, outputs, progress and time to target.
-//! 8. [`curing`] — the [`CuringController`](curing::CuringController): a curing station's
-//!    stop with actuator-lag anticipation, irradiance window, interlock monitor, light-off
-//!    (stuck-shutter) check, lamp-ageing trend and a record per part.
-//! 9. [`record`] — the on-flash record format: byte layout, CRC-32, version rule.
-//! 10. [`journal`] — the session journal on NOR flash (`embedded-storage`): survives a power
-//!     cut at any byte, recovers the open session and resumes with a conservative dose.
-//! 8. [`photochem`] — photons into a vessel, absorbed photons, targets in absorbed einstein
-//!    or conversion (as radiant-exposure targets for the session), quantum yields and
-//!    ferrioxalate actinometry.
+//! **Acquire.** [`reading`] defines the [`PhotodiodeAdc`](reading::PhotodiodeAdc) trait (one
+//! non-blocking method) and the [`Reading`](reading::Reading) it yields once the caller stamps
+//! it with a tick count, with adapters for a closure and (feature `ads1x1x`) for the ADS1x1x
+//! I²C converters through their maintained driver. [`autorange`] picks the amplifier range and
+//! drives the analog switch.
+//!
+//! **Convert.** [`frontend`] validates the converter and amplifier description and gives the
+//! net (dark-corrected) code, saturation flags, volts and photocurrent; [`plausibility`]
+//! checks that the chain is alive. [`band`] reduces a line or an LED band to photons per
+//! joule; [`spectrum`] and [`weighting`] do the configuration-time spectral integrals
+//! (tabulated sources, detector tables, spectral mismatch, CIE erythema, ICNIRP S(λ), UV-A)
+//! into constant factors; [`calibration`] is the sealed calibration record with its expiry
+//! check. [`irradiance`] turns photocurrent into W/m², and its
+//! [`Meter`](irradiance::Meter) combines all configuration into per-range constants.
+//!
+//! **Integrate.** [`dose`] holds the [`Integrator`](dose::Integrator): integer sums, one
+//! segment per range, thresholds pre-converted to integer units, explicit timing faults. Every
+//! dose unit is a constant times its one integral.
+//!
+//! **Control.** [`session`] is the basic dose-controlled exposure
+//! ([`Session`](session::Session): target in J/m², mol/m² or mol, tolerance, phases, outputs,
+//! progress and time to target). [`curing`] is the curing-station controller (actuator-lag
+//! anticipation, irradiance window, interlock monitor, light-off check, lamp ageing, a record
+//! per part). [`exposure`] is the personal exposure monitor (rolling window, warnings with
+//! hysteresis, latched alarm, UV index, SED). [`photochem`] turns chemistry targets (absorbed
+//! einstein, conversion) into radiant-exposure targets and computes quantum yields and
+//! actinometric calibrations.
+//!
+//! **Record.** [`record`] is the on-flash record format (byte layout, CRC-32, version rule);
+//! [`journal`] is the session journal on NOR flash (`embedded-storage`): it survives a power
+//! cut at any byte, recovers the open session and resumes with a conservative dose.
 //!
 //! Physical quantities are newtypes with the unit in every name ([`quantity`]). Time is
 //! always an argument: the library never reads a clock.
