@@ -159,12 +159,12 @@ fn every_record_written_is_decoded_with_its_place() {
         let latest = demo
             .acknowledged
             .iter()
+            .rev()
             .filter(|r| r.seq < rep.seq)
-            .filter_map(|r| match r.body {
+            .find_map(|r| match r.body {
                 Body::Checkpoint(c) if c.session.0 == rep.session => Some(c),
                 _ => None,
             })
-            .last()
             .unwrap();
         assert_checkpoint(rep.restated_checkpoint.as_ref().unwrap(), &latest);
     }

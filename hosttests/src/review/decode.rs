@@ -912,7 +912,6 @@ struct SectorRun {
     stop: ScanStop,
 }
 
-#[allow(clippy::too_many_lines)]
 fn analyse(cx: &Ctx<'_>, states: &[SectorState], m: Mounted) -> Result<Decoded, ReviewError> {
     let g = cx.g;
     let n = g.sectors;
