@@ -187,7 +187,10 @@ fn irradiance<W: Write>(out: &mut W, e: StoredIrradiance) -> core::fmt::Result {
     write!(out, "{sign}{}.{:03}", a / 1000, a % 1000)
 }
 
-fn fault_name(f: FaultCode) -> &'static str {
+/// The name of a fault reason in the CSV (`gap`, `bad_code` ...; `other` for a reason this
+/// version does not name).
+#[must_use]
+pub fn fault_name(f: FaultCode) -> &'static str {
     match f {
         FaultCode::Saturated => "saturated",
         FaultCode::BadCode => "bad_code",
@@ -202,7 +205,13 @@ fn fault_name(f: FaultCode) -> &'static str {
     }
 }
 
-fn event_name<W: Write>(out: &mut W, c: EventCode) -> core::fmt::Result {
+/// Write the name an event code has in the CSV `code` column (`target_reached`,
+/// `fault:gap`, `warning:lamp_ageing` ...; a code this version does not name as `0x` and four
+/// hex digits).
+///
+/// # Errors
+/// The writer's error.
+pub fn event_name<W: Write>(out: &mut W, c: EventCode) -> core::fmt::Result {
     match c {
         EventCode::TargetReached => out.write_str("target_reached"),
         EventCode::Overexposed => out.write_str("overexposed"),
@@ -224,7 +233,13 @@ fn event_name<W: Write>(out: &mut W, c: EventCode) -> core::fmt::Result {
     }
 }
 
-fn outcome_name<W: Write>(out: &mut W, o: SessionOutcome) -> core::fmt::Result {
+/// Write the name a session outcome has in the CSV `code` column of an end record
+/// (`target_met`, `fault:gap` ...; an outcome this version does not name as `0x` and four hex
+/// digits).
+///
+/// # Errors
+/// The writer's error.
+pub fn outcome_name<W: Write>(out: &mut W, o: SessionOutcome) -> core::fmt::Result {
     match o {
         SessionOutcome::TargetMet => out.write_str("target_met"),
         SessionOutcome::Overexposed => out.write_str("overexposed"),

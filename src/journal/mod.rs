@@ -540,12 +540,50 @@ struct Head {
     records: u32,
 }
 
+/// The state of one sector's header, as [`Journal::mount`] reads it (see "The state of a
+/// sector" in the module doc). Read it with [`sector_state`] or [`Journal::sector_state`].
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-enum SectorState {
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum SectorState {
+    /// The header reads erased (all `0xFF`); the rest of the sector is not checked.
     Erased,
-    Valid { seq: u32, first_record: u32 },
-    Newer { major: u8 },
+    /// A valid header of this major format version.
+    Valid {
+        /// Sector sequence number (+1 for each sector opened, from 1).
+        seq: u32,
+        /// Sequence number the first record of the sector gets.
+        first_record: u32,
+    },
+    /// A valid header of a newer major format version: the mount refuses the journal.
+    Newer {
+        /// The major version found.
+        major: u8,
+    },
+    /// Neither erased nor a valid header (torn write, interrupted erase, foreign data).
     Untrusted,
+}
+
+/// Read the header state of sector `index` (`0 ..< config.sectors()`) of the journal
+/// described by `config`. Reads only; works on flash that [`Journal::mount`] refuses (to name
+/// the sector of a newer format).
+///
+/// # Errors
+/// [`JournalError::Config`] if the configuration does not fit `F` or `index` is not a sector
+/// of the journal, [`JournalError::Flash`] if the read fails.
+pub fn sector_state<F: NorFlash>(
+    flash: &mut F,
+    config: &JournalConfig,
+    index: u32,
+) -> Result<SectorState, JournalError<F::Error>> {
+    let g = Geometry::new::<F>(config.base, config.sectors).map_err(JournalError::Config)?;
+    if index >= g.sectors {
+        return Err(JournalError::Config(ConfigError::OutOfRange));
+    }
+    let end = u64::from(g.base) + u64::from(g.sectors) * u64::from(g.erase);
+    if end > flash.capacity() as u64 {
+        return Err(JournalError::Config(ConfigError::OutOfRange));
+    }
+    Ok(read_sector_state(flash, &g, index)?)
 }
 
 /// One slot read from a sector.
@@ -876,7 +914,25 @@ impl<F: NorFlash> Journal<F> {
 
     /// Iterate the retained records oldest first (the journal's restatements included).
     pub fn records(&mut self) -> Records<'_, F> {
-        Records::new(self)
+        Records {
+            scan: Scan::new(self),
+        }
+    }
+
+    /// Walk the retained sectors oldest first, with where each record is and where and why
+    /// each sector's records end (diagnostics and host-side decoding; reads only, exactly the
+    /// reads of [`Journal::records`]). The records it yields are those of
+    /// [`Journal::records`], plus well-formed records of unknown kinds.
+    pub fn scan(&mut self) -> Scan<'_, F> {
+        Scan::new(self)
+    }
+
+    /// The header state of sector `index` (reads only). See [`sector_state`].
+    ///
+    /// # Errors
+    /// As [`sector_state`].
+    pub fn sector_state(&mut self, index: u32) -> Res<SectorState, F> {
+        sector_state(&mut self.flash, &self.config, index)
     }
 
     // ---------------------------------------------------------------------------------
@@ -1312,21 +1368,106 @@ fn is_blank<F: ReadNorFlash>(
 /// Iterator over the retained records, oldest first. See [`Journal::records`].
 #[derive(Debug)]
 pub struct Records<'a, F: NorFlash> {
+    scan: Scan<'a, F>,
+}
+
+impl<F: NorFlash> Iterator for Records<'_, F> {
+    type Item = Res<Record, F>;
+
+    fn next(&mut self) -> Option<Self::Item> {
+        loop {
+            match self.scan.next()? {
+                Err(e) => return Some(Err(e)),
+                Ok(ScanItem::Record {
+                    record: Some(r), ..
+                }) => return Some(Ok(r)),
+                Ok(_) => {}
+            }
+        }
+    }
+}
+
+/// A place in the journal: a sector of the ring and a byte offset in it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Location {
+    /// Sector index in the ring, `0 ..< sectors`.
+    pub sector: u32,
+    /// Byte offset from the first byte of the sector, `0 ..= ERASE_SIZE`.
+    pub offset: u32,
+}
+
+/// Why the records of a retained sector end. See [`ScanItem::SectorEnd`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum ScanStop {
+    /// The next slot reads erased, or no further record fits in the sector: the normal end.
+    Erased,
+    /// The bytes there are not a valid record (torn by a cut, corrupt, or of a newer major
+    /// format version); nothing after them in the sector is read.
+    Invalid,
+    /// A well-formed record whose sequence number does not follow the previous one (not
+    /// written by this journal); nothing after it in the sector is read.
+    OutOfOrder,
+}
+
+/// One step of [`Journal::scan`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum ScanItem {
+    /// A retained sector begins (its header is valid).
+    Sector {
+        /// Sector index in the ring.
+        index: u32,
+        /// Its sector sequence number.
+        seq: u32,
+    },
+    /// A valid record.
+    Record {
+        /// Where it starts.
+        at: Location,
+        /// Its length on flash with the padding to the write size, bytes.
+        len: u32,
+        /// Its sequence number.
+        seq: u32,
+        /// The record; `None` for a well-formed record of a kind this version does not know
+        /// (a newer minor version), which [`Journal::records`] skips.
+        record: Option<Record>,
+    },
+    /// The records of the current sector end here.
+    SectorEnd {
+        /// The first byte after the sector's last valid record.
+        at: Location,
+        /// Why they end.
+        stop: ScanStop,
+    },
+}
+
+/// Iterator over the retained sectors and their records, oldest first. See
+/// [`Journal::scan`].
+#[derive(Debug)]
+pub struct Scan<'a, F: NorFlash> {
     journal: &'a mut Journal<F>,
     /// Sectors left to read, including the current one.
     sectors_left: u32,
     index: u32,
+    /// Sector sequence number of the current sector.
+    seq: u32,
     offset: u32,
+    /// The current sector's [`ScanItem::Sector`] was yielded.
+    opened: bool,
     last_seq: Option<u32>,
     error: Option<JournalError<<F as embedded_storage::nor_flash::ErrorType>::Error>>,
 }
 
-impl<'a, F: NorFlash> Records<'a, F> {
+impl<'a, F: NorFlash> Scan<'a, F> {
     fn new(journal: &'a mut Journal<F>) -> Self {
         let mut it = Self {
             sectors_left: 0,
             index: 0,
+            seq: 0,
             offset: 0,
+            opened: false,
             last_seq: None,
             error: None,
             journal,
@@ -1355,39 +1496,63 @@ impl<'a, F: NorFlash> Records<'a, F> {
         }
         it.sectors_left = count;
         it.index = index;
+        it.seq = seq;
         it.offset = g.header;
         it
     }
 }
 
-impl<F: NorFlash> Iterator for Records<'_, F> {
-    type Item = Res<Record, F>;
+impl<F: NorFlash> Iterator for Scan<'_, F> {
+    type Item = Res<ScanItem, F>;
 
     fn next(&mut self) -> Option<Self::Item> {
         if let Some(e) = self.error.take() {
             self.sectors_left = 0;
             return Some(Err(e));
         }
-        while self.sectors_left > 0 {
-            match self.journal.read_slot(self.index, self.offset) {
-                Err(e) => {
-                    self.sectors_left = 0;
-                    return Some(Err(e));
-                }
-                Ok(Slot::Record { seq, record, len }) if self.last_seq.is_none_or(|l| seq > l) => {
-                    self.last_seq = Some(seq);
-                    self.offset += len;
-                    if let Some(r) = record {
-                        return Some(Ok(r));
-                    }
-                }
-                Ok(_) => {
-                    self.sectors_left -= 1;
-                    self.index = self.journal.geometry.next(self.index);
-                    self.offset = self.journal.geometry.header;
-                }
+        if self.sectors_left == 0 {
+            return None;
+        }
+        if !self.opened {
+            self.opened = true;
+            return Some(Ok(ScanItem::Sector {
+                index: self.index,
+                seq: self.seq,
+            }));
+        }
+        let at = Location {
+            sector: self.index,
+            offset: self.offset,
+        };
+        match self.journal.read_slot(self.index, self.offset) {
+            Err(e) => {
+                self.sectors_left = 0;
+                Some(Err(e))
+            }
+            Ok(Slot::Record { seq, record, len }) if self.last_seq.is_none_or(|l| seq > l) => {
+                self.last_seq = Some(seq);
+                self.offset += len;
+                Some(Ok(ScanItem::Record {
+                    at,
+                    len,
+                    seq,
+                    record,
+                }))
+            }
+            Ok(slot) => {
+                let stop = match slot {
+                    Slot::Erased => ScanStop::Erased,
+                    Slot::Invalid => ScanStop::Invalid,
+                    Slot::Record { .. } => ScanStop::OutOfOrder,
+                };
+                self.sectors_left -= 1;
+                self.index = self.journal.geometry.next(self.index);
+                // The walk only follows consecutive sector sequence numbers.
+                self.seq = self.seq.wrapping_add(1);
+                self.offset = self.journal.geometry.header;
+                self.opened = false;
+                Some(Ok(ScanItem::SectorEnd { at, stop }))
             }
         }
-        None
     }
 }

@@ -1,5 +1,6 @@
 //! photon-review: replay recorded samples through the firmware's own pipeline, plot them,
-//! simulate sample files, explain a configuration, and keep an exposure register.
+//! simulate sample files, explain a configuration, decode a device's flash image, and keep an
+//! exposure register.
 //!
 //! Run `photon-review --help` (or `cargo run -p hosttests --bin photon-review -- --help`).
 //! Configuration and report keys: `hosttests/review/CONFIG.md`.
@@ -7,16 +8,18 @@
 use std::io::Write;
 use std::process::ExitCode;
 
-use clap::{Parser, Subcommand, ValueEnum};
-use hosttests::review::register::{Grouping, Register};
-use hosttests::review::{config, explain, plot, replay, simulate, time, ReviewError};
+use clap::{Args, Parser, Subcommand, ValueEnum};
+use hosttests::review::decode::{self, Geometry, RetentionPolicy};
+use hosttests::review::register::{self, Grouping, ImageLabels, Register};
+use hosttests::review::{config, demo_image, explain, plot, replay, simulate, time, ReviewError};
 
 #[derive(Parser)]
 #[command(
     name = "photon-review",
     version,
     about = "Review photon-ledger dose runs on a PC: \
-    replay samples through the firmware pipeline, plot, simulate, explain, register exposures"
+    replay samples through the firmware pipeline, plot, simulate, explain, decode flash images, \
+    register exposures"
 )]
 struct Cli {
     #[command(subcommand)]
@@ -27,6 +30,68 @@ struct Cli {
 enum Format {
     Text,
     Json,
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum DecodePrint {
+    Text,
+    Json,
+    Csv,
+}
+
+#[derive(Clone, Copy, ValueEnum)]
+enum RetentionArg {
+    Ring,
+    KeepAll,
+}
+
+/// A `u32` in decimal or with a `0x` prefix in hex.
+fn parse_u32(s: &str) -> Result<u32, String> {
+    let t = s.trim();
+    let r = match t.strip_prefix("0x").or_else(|| t.strip_prefix("0X")) {
+        Some(h) => u32::from_str_radix(&h.replace('_', ""), 16),
+        None => t.replace('_', "").parse(),
+    };
+    r.map_err(|e| format!("`{s}` is not a 32-bit number (decimal, or hex with 0x): {e}"))
+}
+
+/// The journal's place and the flash's sizes (defaults: the shipped example image).
+#[derive(Args, Clone, Copy)]
+struct GeometryArgs {
+    /// Device address of the journal's first byte (the image's first byte), decimal or 0x hex.
+    #[arg(long, value_parser = parse_u32, default_value = "0")]
+    base: u32,
+    /// Sector (erase) size, bytes.
+    #[arg(long, value_parser = parse_u32, default_value_t = Geometry::EXAMPLE.sector_size_bytes)]
+    sector_size: u32,
+    /// Number of sectors of the journal.
+    #[arg(long, value_parser = parse_u32, default_value_t = Geometry::EXAMPLE.sectors)]
+    sectors: u32,
+    /// Write (program) size of the flash, bytes.
+    #[arg(long, value_parser = parse_u32, default_value_t = Geometry::EXAMPLE.write_size_bytes)]
+    write_size: u32,
+    /// Read size of the flash, bytes.
+    #[arg(long, value_parser = parse_u32, default_value_t = Geometry::EXAMPLE.read_size_bytes)]
+    read_size: u32,
+    /// The journal's retention policy in the firmware.
+    #[arg(long, value_enum, default_value = "ring")]
+    retention: RetentionArg,
+}
+
+impl GeometryArgs {
+    fn geometry(self) -> Geometry {
+        Geometry {
+            base_address: self.base,
+            sector_size_bytes: self.sector_size,
+            sectors: self.sectors,
+            write_size_bytes: self.write_size,
+            read_size_bytes: self.read_size,
+            retention: match self.retention {
+                RetentionArg::Ring => RetentionPolicy::Ring,
+                RetentionArg::KeepAll => RetentionPolicy::KeepAll,
+            },
+        }
+    }
 }
 
 #[derive(Clone, Copy, ValueEnum)]
@@ -74,6 +139,29 @@ enum Command {
         #[arg(long)]
         start_utc: Option<String>,
     },
+    /// Decode a raw flash image of the session journal: records as CSV and JSON, and a
+    /// summary of its sessions. Never writes to the image.
+    Decode {
+        /// The image file: the journal's range as read from the device.
+        image: String,
+        #[command(flatten)]
+        geometry: GeometryArgs,
+        /// What to print on standard output.
+        #[arg(long, value_enum, default_value = "text")]
+        print: DecodePrint,
+        /// Also write the JSON (records, sessions) to this file.
+        #[arg(long)]
+        json: Option<String>,
+        /// Also write the records as CSV (the device's own CSV) to this file.
+        #[arg(long)]
+        csv: Option<String>,
+        /// Also write the text summary to this file.
+        #[arg(long)]
+        text: Option<String>,
+        /// Include the journal's restatement records in the CSV.
+        #[arg(long)]
+        restatements: bool,
+    },
     /// Write a sample file (and its configuration) from the simulation models.
     Simulate {
         /// Scenario name (see --list).
@@ -90,6 +178,10 @@ enum Command {
         /// Noise seed.
         #[arg(long, default_value_t = 405)]
         seed: u64,
+        /// Instead of a sample file: write the flash image of a demonstration device's
+        /// journal (three sessions, the last cut by a power loss) to this file.
+        #[arg(long, conflicts_with_all = ["scenario", "list", "out", "config_out"])]
+        journal_image: Option<String>,
     },
     /// Print the factors a configuration reduces to (W/m² per A, µmol/J, target in integer
     /// units ...).
@@ -110,14 +202,33 @@ enum Command {
 
 #[derive(Subcommand)]
 enum RegisterAction {
-    /// Import replay reports (JSON); a session already present is not added again.
+    /// Import replay reports (JSON) and flash images; a session already present is not
+    /// added again.
     Import {
         /// Register file (created if missing).
         #[arg(long)]
         db: String,
         /// Report files written by `replay --json`.
-        #[arg(required = true)]
+        #[arg(required_unless_present = "image")]
         reports: Vec<String>,
+        /// A flash image of a device's journal (repeatable); its ended sessions are imported.
+        #[arg(long)]
+        image: Vec<String>,
+        /// UTC time of the device's tick 0, e.g. 2025-03-14T09:00:00Z (needed with --image:
+        /// a journal records ticks, not dates).
+        #[arg(long)]
+        epoch_utc: Option<String>,
+        /// Device label of the images' sessions.
+        #[arg(long)]
+        device_id: Option<String>,
+        /// Person label of the images' sessions.
+        #[arg(long)]
+        person_id: Option<String>,
+        /// Reactor or station label of the images' sessions.
+        #[arg(long)]
+        reactor_id: Option<String>,
+        #[command(flatten)]
+        geometry: GeometryArgs,
     },
     /// Dose per device, person or reactor per UTC day.
     DosePerDay {
@@ -234,12 +345,63 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
                 }
             }
         }
+        Command::Decode {
+            image,
+            geometry,
+            print,
+            json: json_out,
+            csv,
+            text,
+            restatements,
+        } => {
+            let d = decode::decode_file(&image, &geometry.geometry())?;
+            // Everything below runs only after the whole image was decoded.
+            let text_out = d.to_text();
+            let json_text = json(&d)?;
+            let csv_text = if restatements {
+                &d.csv_with_restatements
+            } else {
+                &d.csv
+            };
+            if let Some(p) = &json_out {
+                write_atomic(p, json_text.as_bytes())?;
+            }
+            if let Some(p) = &csv {
+                write_atomic(p, csv_text.as_bytes())?;
+            }
+            if let Some(p) = &text {
+                write_atomic(p, text_out.as_bytes())?;
+            }
+            match print {
+                DecodePrint::Text => say(&text_out),
+                DecodePrint::Json => {
+                    say(&json_text);
+                    say("\n");
+                }
+                DecodePrint::Csv => say(csv_text),
+            }
+        }
+        Command::Simulate {
+            journal_image: Some(p),
+            seed,
+            ..
+        } => {
+            let demo = demo_image::demo_journal(seed)?;
+            write_atomic(&p, &demo.image)?;
+            say(&format!(
+                "{p}: flash image of a demonstration journal ({} bytes, {} records acknowledged, \
+                 the last write cut by a power loss); decode it with `photon-review decode {p}`\n",
+                demo.image.len(),
+                demo.acknowledged.len()
+            ));
+        }
         Command::Simulate {
             scenario,
             list,
             out: csv_out,
             config_out,
             seed,
+            journal_image: None,
         } => {
             if list || scenario.is_none() {
                 for s in &simulate::SCENARIOS {
@@ -283,9 +445,40 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
             }
         }
         Command::Register { action } => match action {
-            RegisterAction::Import { db, reports } => {
+            RegisterAction::Import {
+                db,
+                reports,
+                image,
+                epoch_utc,
+                device_id,
+                person_id,
+                reactor_id,
+                geometry,
+            } => {
+                // Every input is read and checked before the register is touched.
+                let mut summaries = register::report_summaries(&reports)?;
+                let mut skipped = Vec::new();
+                if !image.is_empty() {
+                    let labels = ImageLabels {
+                        device_id,
+                        person_id,
+                        reactor_id,
+                        epoch_utc: epoch_utc.ok_or_else(|| {
+                            ReviewError::Other(
+                                "--image needs --epoch-utc: a journal records ticks, not dates"
+                                    .into(),
+                            )
+                        })?,
+                    };
+                    let found = register::image_summaries(&image, &geometry.geometry(), &labels)?;
+                    summaries.extend(found.summaries);
+                    skipped = found.skipped;
+                }
                 let mut r = Register::open(&db)?;
-                let stats = r.import_report_files(&reports)?;
+                let stats = r.import(&summaries)?;
+                for m in &skipped {
+                    say(&format!("{m}\n"));
+                }
                 say(&format!(
                     "{db}: {} added, {} already present, {} sessions in the register\n",
                     stats.added,
@@ -370,12 +563,25 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let replaying = matches!(cli.command, Command::Replay { .. });
+    let decoding = matches!(cli.command, Command::Decode { .. });
+    let importing = matches!(
+        cli.command,
+        Command::Register {
+            action: RegisterAction::Import { .. }
+        }
+    );
     match run(cli) {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {
             eprintln!("photon-review: error: {e}");
             if replaying {
                 eprintln!("photon-review: no report was written");
+            }
+            if decoding {
+                eprintln!("photon-review: nothing was decoded or written");
+            }
+            if importing {
+                eprintln!("photon-review: nothing was imported");
             }
             ExitCode::FAILURE
         }

@@ -33,6 +33,17 @@ pub enum ReviewError {
         /// The error.
         source: std::io::Error,
     },
+    /// A flash image that cannot be decoded: where in it, and what is wrong.
+    Image {
+        /// The image file as the user named it.
+        file: String,
+        /// Offset in the image, bytes, if the problem has one place.
+        offset: Option<u64>,
+        /// The journal sector (index in the ring), if the problem is in one.
+        sector: Option<u32>,
+        /// What.
+        message: String,
+    },
     /// An error of the exposure register (SQLite).
     Register(String),
     /// Anything else (a plot that could not be drawn, a bad command-line value).
@@ -75,6 +86,21 @@ impl fmt::Display for ReviewError {
                 }
                 if let Some(k) = &place.field {
                     write!(f, " ({k})")?;
+                }
+                write!(f, ": {message}")
+            }
+            Self::Image {
+                file,
+                offset,
+                sector,
+                message,
+            } => {
+                write!(f, "{file}")?;
+                match (offset, sector) {
+                    (Some(o), Some(s)) => write!(f, ": image byte {o} (sector {s})")?,
+                    (Some(o), None) => write!(f, ": image byte {o}")?,
+                    (None, Some(s)) => write!(f, ": sector {s}")?,
+                    (None, None) => {}
                 }
                 write!(f, ": {message}")
             }

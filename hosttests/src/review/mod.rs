@@ -9,12 +9,16 @@
 //! | [`plot`] | the SVG plot |
 //! | [`simulate`] | sample files from the simulation models, for named scenarios |
 //! | [`explain`] | the derived factors of a configuration |
+//! | [`decode`] | a raw flash image of the journal → records (CSV, JSON) and a session summary |
+//! | [`demo_image`] | a demonstration flash image written by the real journal on the simulated flash |
 //! | [`register`] | the exposure register (SQLite): import sessions, answer questions |
 //!
 //! Every configuration key and report key, with its unit, is documented in
 //! `hosttests/review/CONFIG.md`.
 
 pub mod config;
+pub mod decode;
+pub mod demo_image;
 pub mod error;
 pub mod explain;
 pub mod monitor;

@@ -5,16 +5,29 @@
 //!
 //! Everything enters through [`Register::import`], which takes a list of
 //! [`SessionSummary`] — what is known about one finished session, whatever it came from.
-//! Today the summaries come from the tool's own replay reports
-//! ([`SessionSummary::from_report`], `register import`); the flash-journal decoder will build
-//! the same summaries from a device's log and call the same function.
+//! The summaries come from the tool's own replay reports ([`SessionSummary::from_report`],
+//! `register import REPORT.json`) and from flash images of a device's journal, decoded by
+//! [`super::decode`] ([`SessionSummary::from_journal_session`], `register import --image`).
 //!
 //! # Idempotence
 //!
 //! Each summary carries a content hash (`content_sha256`): for a replay report the report's
-//! `session_sha256` (configuration + samples + labels), for a journal the hash of the
-//! session's records. It is the table's unique key, so importing the same report or image
-//! twice adds nothing.
+//! `session_sha256` (configuration + samples + labels), for a journal session the hash of its
+//! start payload and its end record ([`super::decode::session_key`]: both are in every image
+//! that holds the end, while the records between them may be recycled by the ring from one
+//! read-out to the next). It is the table's unique key, so importing the same report or image
+//! twice — or two read-outs of the same device that both hold a session — adds nothing.
+//!
+//! # Sessions from a flash image
+//!
+//! Only ended sessions (with an end record) are imported: an open session may still grow,
+//! and is imported from a later read-out once it has ended (the device writes an end record,
+//! `abandoned` if it does not resume it). A journal holds ticks, not dates: the UTC start is
+//! `--epoch-utc` (the UTC time of the device's tick 0) + start tick ÷ tick rate. The journal
+//! records no illuminated area, weighting or exposure limit: `photons_mol`,
+//! `effective_exposure_j_per_m2`, `exposure_limit_j_per_m2` and `erythemal_exposure_sed` are
+//! null, `limit_reached` is 0. `stop_reason` is `target_met`, `overexposed`, `fault`,
+//! `aborted`, `abandoned`, or the outcome code in hex.
 //!
 //! # Schema (version 1)
 //!
@@ -25,6 +38,10 @@
 use rusqlite::{params, Connection, OptionalExtension};
 use serde::Serialize;
 
+use photon_ledger::journal::export::fault_name;
+use photon_ledger::record::{FaultCode, SessionOutcome};
+
+use super::decode::{decode_file, Geometry, SessionReport};
 use super::error::ReviewError;
 use super::report::{Report, REPORT_FORMAT, REPORT_VERSION};
 use super::time::{format_utc, parse_utc, utc_day};
@@ -70,7 +87,7 @@ CREATE INDEX IF NOT EXISTS session_day ON session (day_utc);
 pub enum SourceKind {
     /// A replay report of this tool.
     ReplayReport,
-    /// A decoded flash journal (the decoder is not merged yet).
+    /// A session decoded from a flash image of a device's journal.
     FlashJournal,
 }
 
@@ -112,7 +129,8 @@ pub struct SessionSummary {
     pub target_j_per_m2: Option<f64>,
     /// Whether the target was reached.
     pub target_reached: bool,
-    /// `target_met`, `overexposed`, `fault`, `end_of_data`.
+    /// `target_met`, `overexposed`, `fault`, `end_of_data` (replay reports); `target_met`,
+    /// `overexposed`, `fault`, `aborted`, `abandoned` or a hex outcome code (flash journals).
     pub stop_reason: String,
     /// The fault, if any.
     pub fault: Option<String>,
@@ -167,6 +185,127 @@ impl SessionSummary {
             erythemal_exposure_sed: r.solar.as_ref().map(|x| x.erythemal_exposure_sed),
         })
     }
+}
+
+/// Labels and the clock of the device a flash image was read from.
+#[derive(Debug, Clone, PartialEq, Eq, Default)]
+pub struct ImageLabels {
+    /// Device label.
+    pub device_id: Option<String>,
+    /// Person label.
+    pub person_id: Option<String>,
+    /// Reactor or station label.
+    pub reactor_id: Option<String>,
+    /// UTC time of the device's tick 0, `YYYY-MM-DDTHH:MM:SS[.f]Z`.
+    pub epoch_utc: String,
+}
+
+fn fault_text(f: FaultCode) -> String {
+    match f {
+        FaultCode::Other(c) => format!("other:{c:#04x}"),
+        f => fault_name(f).to_string(),
+    }
+}
+
+impl SessionSummary {
+    /// The summary of a session decoded from a flash image; `Ok(None)` for a session that
+    /// has not ended (see the module doc). `epoch_s`: Unix seconds of the device's tick 0.
+    ///
+    /// # Errors
+    /// An ended session whose start is unknown, or whose band wavelength gives no photon
+    /// exposure.
+    pub fn from_journal_session(
+        s: &SessionReport,
+        source_name: &str,
+        labels: &ImageLabels,
+        epoch_s: f64,
+    ) -> Result<Option<Self>, ReviewError> {
+        let (Some(code), Some(key)) = (s.outcome_code, s.content_sha256.clone()) else {
+            return Ok(None);
+        };
+        let bad =
+            |m: String| ReviewError::Other(format!("{source_name}: session {}: {m}", s.session));
+        let (Some(tick), Some(rate)) = (s.start_tick, s.tick_rate_hz.filter(|&r| r > 0)) else {
+            return Err(bad("its start record is not retained".into()));
+        };
+        let photon = s.photon_exposure_mol_per_m2.ok_or_else(|| {
+            bad(format!(
+                "band wavelength {:?} nm gives no photon exposure",
+                s.wavelength_nm
+            ))
+        })?;
+        let (stop_reason, fault) = match SessionOutcome::from_code(code) {
+            SessionOutcome::TargetMet => ("target_met".to_string(), None),
+            SessionOutcome::Overexposed => ("overexposed".into(), None),
+            SessionOutcome::Aborted => ("aborted".into(), None),
+            SessionOutcome::Abandoned => ("abandoned".into(), None),
+            SessionOutcome::Faulted(f) => ("fault".into(), Some(fault_text(f))),
+            SessionOutcome::Other(c) => (format!("{c:#06x}"), None),
+        };
+        Ok(Some(Self {
+            content_sha256: key,
+            source_kind: SourceKind::FlashJournal,
+            source_name: source_name.to_string(),
+            device_id: labels.device_id.clone(),
+            person_id: labels.person_id.clone(),
+            reactor_id: labels.reactor_id.clone(),
+            start_utc: format_utc(epoch_s + f64::from(tick) / f64::from(rate)),
+            duration_s: s.duration_s.unwrap_or(0.0),
+            radiant_exposure_j_per_m2: s.radiant_exposure_j_per_m2,
+            photon_exposure_mol_per_m2: photon,
+            photons_mol: None,
+            target_j_per_m2: s.target_j_per_m2,
+            target_reached: s.target_reached,
+            stop_reason,
+            fault,
+            effective_exposure_j_per_m2: None,
+            exposure_limit_j_per_m2: None,
+            limit_reached: false,
+            erythemal_exposure_sed: None,
+        }))
+    }
+}
+
+/// Sessions found in flash images, ready for [`Register::import`].
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct ImageSessions {
+    /// The ended sessions.
+    pub summaries: Vec<SessionSummary>,
+    /// Sessions not imported (not ended), one line each.
+    pub skipped: Vec<String>,
+}
+
+/// Decode every image (with geometry `g`) and summarise its ended sessions. Every image is
+/// decoded before anything is returned; an image that does not decode fails the whole call.
+///
+/// # Errors
+/// As [`decode_file`] and [`SessionSummary::from_journal_session`]; a malformed epoch.
+pub fn image_summaries(
+    paths: &[String],
+    g: &Geometry,
+    labels: &ImageLabels,
+) -> Result<ImageSessions, ReviewError> {
+    let epoch = parse_utc(&labels.epoch_utc).ok_or_else(|| {
+        ReviewError::Other(format!(
+            "--epoch-utc `{}` is not a UTC time like 2025-03-14T09:00:00Z",
+            labels.epoch_utc
+        ))
+    })?;
+    let mut out = ImageSessions::default();
+    for p in paths {
+        let d = decode_file(p, g)?;
+        for s in &d.sessions {
+            match SessionSummary::from_journal_session(s, p, labels, epoch)? {
+                Some(x) => out.summaries.push(x),
+                None => out.skipped.push(format!(
+                    "{p}: session {} is {} (no end record): not imported; import a later \
+                     read-out once it has ended",
+                    s.session, s.state
+                )),
+            }
+        }
+    }
+    Ok(out)
 }
 
 /// What an import did.
@@ -250,6 +389,32 @@ pub struct LimitDay {
     pub sessions_at_limit: u64,
     /// `alarm in a session` or `day total at or above the limit`.
     pub reason: String,
+}
+
+/// Read and check replay report files (JSON) into summaries, all before anything is
+/// imported.
+///
+/// # Errors
+/// A file that cannot be read or is not a complete report (with its name and the JSON
+/// error's line and column).
+pub fn report_summaries(paths: &[String]) -> Result<Vec<SessionSummary>, ReviewError> {
+    let mut summaries = Vec::with_capacity(paths.len());
+    for p in paths {
+        let text = std::fs::read_to_string(p).map_err(|e| ReviewError::io(p, e))?;
+        let report: Report = serde_json::from_str(&text).map_err(|e| {
+            ReviewError::input(
+                super::error::Place {
+                    file: p.clone(),
+                    line: Some(e.line() as u64),
+                    column: Some(e.column() as u64),
+                    field: None,
+                },
+                format!("not a photon-review report: {e}"),
+            )
+        })?;
+        summaries.push(SessionSummary::from_report(&report, p)?);
+    }
+    Ok(summaries)
 }
 
 /// An open register file.
@@ -362,22 +527,7 @@ impl Register {
     /// A file that cannot be read or is not a complete report (with its name and the JSON
     /// error's line and column), or SQLite errors.
     pub fn import_report_files(&mut self, paths: &[String]) -> Result<ImportStats, ReviewError> {
-        let mut summaries = Vec::with_capacity(paths.len());
-        for p in paths {
-            let text = std::fs::read_to_string(p).map_err(|e| ReviewError::io(p, e))?;
-            let report: Report = serde_json::from_str(&text).map_err(|e| {
-                ReviewError::input(
-                    super::error::Place {
-                        file: p.clone(),
-                        line: Some(e.line() as u64),
-                        column: Some(e.column() as u64),
-                        field: None,
-                    },
-                    format!("not a photon-review report: {e}"),
-                )
-            })?;
-            summaries.push(SessionSummary::from_report(&report, p)?);
-        }
+        let summaries = report_summaries(paths)?;
         self.import(&summaries)
     }
 
