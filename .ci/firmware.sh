@@ -59,7 +59,7 @@ done
 # Firmware builds
 # --------------------------------------------------------------------------------------
 EXAMPLES="curing irq footprint hotpath"
-NOPANIC="nopanic_frontend_meter nopanic_integrator nopanic_session nopanic_autorange nopanic_journal nopanic_exposure nopanic_curing nopanic_spectral"
+NOPANIC="nopanic_frontend_meter nopanic_integrator nopanic_session nopanic_autorange nopanic_journal nopanic_exposure nopanic_curing nopanic_spectral nopanic_photochem"
 step "firmware builds (release, opt-level s, fat LTO)"
 for t in "$V6" "$V7"; do
     bins=""

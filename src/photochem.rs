@@ -215,7 +215,10 @@ impl core::fmt::Display for PhotochemError {
             Self::Exposure => f.write_str("radiant exposure must be finite and > 0"),
             Self::Amount => f.write_str("amount must be finite and >= 0"),
             Self::Target => f.write_str("target must be finite and > 0"),
-            Self::Conversion => write!(f, "conversion must be > 0 and <= {MAX_CONVERSION}"),
+            // A literal, not `{MAX_CONVERSION}`: formatting an f64 links core's float
+            // formatting, which keeps panic paths (and about 10 KiB) in every firmware that
+            // shows an error. The assertion below keeps the text equal to the constant.
+            Self::Conversion => f.write_str("conversion must be > 0 and <= 0.999"),
             Self::NothingAbsorbed => f.write_str("the sample absorbs nothing in the band"),
             Self::ReactantRequired => {
                 f.write_str("the initial amount of the absorbing reactant is required")
@@ -225,6 +228,11 @@ impl core::fmt::Display for PhotochemError {
         }
     }
 }
+
+const _: () = assert!(
+    MAX_CONVERSION == 0.999,
+    "update the Display text of Conversion"
+);
 
 impl core::error::Error for PhotochemError {}
 
@@ -236,4 +244,20 @@ pub(crate) fn positive(v: f64) -> bool {
 /// `true` for a finite value ≥ 0.
 pub(crate) fn non_negative(v: f64) -> bool {
     v.is_finite() && v >= 0.0
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn conversion_message_states_the_limit() {
+        // The message is a literal (no f64 formatting on the target); it must still say the
+        // value of MAX_CONVERSION as `{}` formats it.
+        let shown = std::format!("{}", PhotochemError::Conversion);
+        assert_eq!(
+            shown,
+            std::format!("conversion must be > 0 and <= {MAX_CONVERSION}")
+        );
+    }
 }
