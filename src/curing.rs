@@ -1938,11 +1938,6 @@ fn validate(meter: &Meter, c: &CuringConfig) -> Result<Checked, CuringConfigErro
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::band::Band;
-    use crate::frontend::{AdcSpec, AmplifierRange, Coding, FrontEnd};
-    use crate::irradiance::Calibration;
-    use crate::quantity::{IrradiancePerCurrent, Transimpedance, Voltage, Wavelength};
-    use crate::reading::TickRate;
     use embedded_hal::digital::{ErrorKind, ErrorType};
     use std::cell::Cell;
     use std::rc::Rc;
@@ -1989,35 +1984,9 @@ mod tests {
     }
 
     /// 1 W/m² per code in range 0, 10 W/m² per code in range 1, 1000 ticks/s (as in dose.rs).
+    /// 1 W/m² per code in range 0, 10 W/m² per code in range 1, 1000 ticks/s.
     fn meter() -> Meter {
-        let fe = FrontEnd::new(
-            AdcSpec {
-                bits: 16,
-                reference: Voltage::from_v(65.536),
-                pga_gain: 1.0,
-                coding: Coding::Unipolar,
-                saturation_margin: 0,
-            },
-            &[
-                AmplifierRange {
-                    gain: Transimpedance::from_v_per_a(1e6),
-                    dark_offset: 0,
-                },
-                AmplifierRange {
-                    gain: Transimpedance::from_v_per_a(1e5),
-                    dark_offset: 0,
-                },
-            ],
-        )
-        .unwrap();
-        Meter::new(
-            fe,
-            Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e9)),
-            Band::Line(Wavelength::from_nm(395.0)),
-            TickRate::from_hz(1000).unwrap(),
-            None,
-        )
-        .unwrap()
+        crate::test_support::two_range_meter(395.0)
     }
 
     /// Target 10 000 J/m² (1000 mJ/cm²), tolerance 100 J/m², 200-tick dead time.

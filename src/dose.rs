@@ -545,42 +545,11 @@ fn small_trapezoid_term(a: i32, b: i32, dt: u32) -> Option<i32> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::band::Band;
-    use crate::frontend::{AdcSpec, AmplifierRange, Coding, FrontEnd};
-    use crate::irradiance::Calibration;
-    use crate::quantity::{IrradiancePerCurrent, Transimpedance, Voltage, Wavelength};
-    use crate::reading::TickRate;
 
     /// 1 W/m² per code in range 0, 10 W/m² per code in range 1, 1000 ticks/s.
+    /// 1 W/m² per code in range 0, 10 W/m² per code in range 1, 1000 ticks/s.
     fn meter() -> Meter {
-        let fe = FrontEnd::new(
-            AdcSpec {
-                bits: 16,
-                reference: Voltage::from_v(65.536),
-                pga_gain: 1.0,
-                coding: Coding::Unipolar,
-                saturation_margin: 0,
-            },
-            &[
-                AmplifierRange {
-                    gain: Transimpedance::from_v_per_a(1e6),
-                    dark_offset: 0,
-                },
-                AmplifierRange {
-                    gain: Transimpedance::from_v_per_a(1e5),
-                    dark_offset: 0,
-                },
-            ],
-        )
-        .unwrap();
-        Meter::new(
-            fe,
-            Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e9)),
-            Band::Line(Wavelength::from_nm(365.0)),
-            TickRate::from_hz(1000).unwrap(),
-            None,
-        )
-        .unwrap()
+        crate::test_support::two_range_meter(365.0)
     }
 
     #[test]

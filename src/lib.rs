@@ -153,6 +153,9 @@ pub mod session;
 pub mod spectrum;
 pub mod weighting;
 
+#[cfg(test)]
+mod test_support;
+
 #[cfg(feature = "ads1x1x")]
 pub mod ads1x1x_adc;
 
