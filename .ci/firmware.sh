@@ -58,7 +58,7 @@ done
 # --------------------------------------------------------------------------------------
 # Firmware builds
 # --------------------------------------------------------------------------------------
-EXAMPLES="curing irq footprint hotpath"
+EXAMPLES="curing irq footprint footprint_full hotpath"
 NOPANIC="nopanic_frontend_meter nopanic_integrator nopanic_session nopanic_autorange nopanic_journal nopanic_exposure nopanic_curing nopanic_spectral nopanic_photochem"
 step "firmware builds (release, opt-level s, fat LTO)"
 for t in "$V6" "$V7"; do
@@ -121,6 +121,7 @@ for t in "$V6" "$V7"; do
     # run is the same on every machine, however loaded.
     run_example "$t" irq -icount shift=0
     run_example "$t" footprint
+    run_example "$t" footprint_full
     # defmt: binary log on stdout, decoded with defmt-print.
     dlog="$WORK/defmt_log-$t.bin"
     if qemu "$t" "$(elf "$t" defmt_log)" >"$dlog" 2>"$WORK/defmt_log-$t.err"; then
@@ -203,7 +204,7 @@ done
 # --------------------------------------------------------------------------------------
 step "sizes (arm-none-eabi-size)"
 for t in "$V6" "$V7"; do
-    for b in footprint curing irq defmt_log; do
+    for b in footprint footprint_full curing irq defmt_log; do
         read -r text data bss _ < <(arm-none-eabi-size "$(elf "$t" "$b")" | tail -1)
         echo "  $t $b: text $text, data $data, bss $bss"
         FIG[text_${b}_$t]=$text
@@ -251,6 +252,7 @@ check hot_path_soft_float_m0 "${FIG[softfloat_$V6]:-}"
 check step_on_reading_m0 "${FIG[step_$V6]:-}"
 check step_on_reading_m4f "${FIG[step_$V7]:-}"
 check flash_pipeline_controller_m0 "${FIG[text_footprint_$V6]:-}"
+check flash_full_curing_m0 "${FIG[text_footprint_full_$V6]:-}"
 check ram_session_state_m0 "${FIG[session_state_$V6]:-}"
 check ram_static_footprint_m0 "${FIG[ram_footprint_$V6]:-}"
 check stack_m0 "${FIG[stack_$V6]:-}"
@@ -269,7 +271,7 @@ printf '  %-40s %s\n' \
     "text: irq example, M0 / M4F" "${FIG[text_irq_$V6]:-?} / ${FIG[text_irq_$V7]:-?}" \
     "text: defmt example, M0 / M4F" "${FIG[text_defmt_log_$V6]:-?} / ${FIG[text_defmt_log_$V7]:-?}" \
     "data+bss: curing / irq, M0" "${FIG[ram_curing_$V6]:-?} / ${FIG[ram_irq_$V6]:-?}" \
-    "full curing firmware (journal + export), goal 16 KiB" "not built yet: journal and export do not exist"
+    "text: full curing firmware (journal + export), M4F" "${FIG[text_footprint_full_$V7]:-?}" \
 
 echo
 if [ "$failures" = 0 ]; then
