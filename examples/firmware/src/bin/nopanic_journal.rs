@@ -7,9 +7,6 @@
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
-use embedded_storage::nor_flash::{
-    ErrorType, NorFlash, NorFlashError, NorFlashErrorKind, ReadNorFlash,
-};
 use photon_ledger::journal::export::export_csv;
 use photon_ledger::journal::{Journal, JournalConfig, Retention};
 use photon_ledger::reading::Ticks;
@@ -21,55 +18,10 @@ use photon_ledger::record::{
 mod common;
 use common::*;
 
-/// A RAM-backed NOR flash (4 sectors of 1 KiB) with the clear-bits-only program rule.
-#[derive(Debug)]
-struct E;
-impl NorFlashError for E {
-    fn kind(&self) -> NorFlashErrorKind {
-        NorFlashErrorKind::Other
-    }
-}
-struct Ram {
-    d: [u8; 4096],
-}
-impl ErrorType for Ram {
-    type Error = E;
-}
-impl ReadNorFlash for Ram {
-    const READ_SIZE: usize = 4;
-    fn read(&mut self, o: u32, b: &mut [u8]) -> Result<(), E> {
-        let o = o as usize;
-        let s = self.d.get(o..o.checked_add(b.len()).ok_or(E)?).ok_or(E)?;
-        for (x, y) in b.iter_mut().zip(s) {
-            *x = *y;
-        }
-        Ok(())
-    }
-    fn capacity(&self) -> usize {
-        4096
-    }
-}
-impl NorFlash for Ram {
-    const WRITE_SIZE: usize = 8;
-    const ERASE_SIZE: usize = 1024;
-    fn erase(&mut self, f: u32, t: u32) -> Result<(), E> {
-        for b in self.d.get_mut(f as usize..t as usize).ok_or(E)? {
-            *b = 0xFF;
-        }
-        Ok(())
-    }
-    fn write(&mut self, o: u32, b: &[u8]) -> Result<(), E> {
-        let o = o as usize;
-        let s = self
-            .d
-            .get_mut(o..o.checked_add(b.len()).ok_or(E)?)
-            .ok_or(E)?;
-        for (x, y) in s.iter_mut().zip(b) {
-            *x &= *y;
-        }
-        Ok(())
-    }
-}
+#[path = "../ram_flash.rs"]
+mod ram_flash;
+use ram_flash::Ram;
+
 struct Sink(u32);
 impl core::fmt::Write for Sink {
     fn write_str(&mut self, s: &str) -> core::fmt::Result {
