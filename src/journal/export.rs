@@ -22,8 +22,8 @@ use embedded_storage::nor_flash::NorFlash;
 
 use super::{Journal, JournalError};
 use crate::record::{
-    Body, EventCode, FaultCode, Record, SessionOutcome, StoredExposure, StoredIrradiance,
-    WarningCode,
+    Body, EventCode, FaultCode, Record, SessionOutcome, SessionStart, StoredExposure,
+    StoredIrradiance, WarningCode,
 };
 
 /// The CSV header line (without the line end).
@@ -108,35 +108,11 @@ pub fn write_csv_line<W: Write>(out: &mut W, r: &Record) -> core::fmt::Result {
                 out.write_char(',')?;
             }
             out.write_str(",,,")?;
-            irradiance(out, s.max_irradiance)?;
-            write!(out, ",,,,,")?;
-            exposure(out, s.target)?;
-            write!(
-                out,
-                ",{},{}.{:03},{:#010x},{},{}",
-                s.tick_rate_hz,
-                s.wavelength.pm() / 1000,
-                s.wavelength.pm() % 1000,
-                s.config_digest.0,
-                s.calibration.0,
-                s.interval_ticks
-            )?;
+            start_columns(out, &s)?;
         }
         Body::Start(s) => {
             write!(out, "{},,,,,", s.start.0)?;
-            irradiance(out, s.max_irradiance)?;
-            write!(out, ",,,,,")?;
-            exposure(out, s.target)?;
-            write!(
-                out,
-                ",{},{}.{:03},{:#010x},{},{}",
-                s.tick_rate_hz,
-                s.wavelength.pm() / 1000,
-                s.wavelength.pm() % 1000,
-                s.config_digest.0,
-                s.calibration.0,
-                s.interval_ticks
-            )?;
+            start_columns(out, &s)?;
         }
         Body::Checkpoint(c) => {
             write!(out, "{},", c.at.0)?;
@@ -185,6 +161,24 @@ fn irradiance<W: Write>(out: &mut W, e: StoredIrradiance) -> core::fmt::Result {
     let sign = if mw < 0 { "-" } else { "" };
     let a = mw.unsigned_abs();
     write!(out, "{sign}{}.{:03}", a / 1000, a % 1000)
+}
+
+/// The columns a start record and a restatement share: peak irradiance bound, target, tick
+/// rate, equivalent wavelength, configuration digest, calibration identity, interval.
+fn start_columns<W: Write>(out: &mut W, s: &SessionStart) -> core::fmt::Result {
+    irradiance(out, s.max_irradiance)?;
+    write!(out, ",,,,,")?;
+    exposure(out, s.target)?;
+    write!(
+        out,
+        ",{},{}.{:03},{:#010x},{},{}",
+        s.tick_rate_hz,
+        s.wavelength.pm() / 1000,
+        s.wavelength.pm() % 1000,
+        s.config_digest.0,
+        s.calibration.0,
+        s.interval_ticks
+    )
 }
 
 /// The name of a fault reason in the CSV (`gap`, `bad_code` ...; `other` for a reason this
