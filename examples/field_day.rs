@@ -86,20 +86,20 @@ fn main() -> Result<(), String> {
     // table shipped in `weighting` (0.5).
     let s254 = WeightFactor::from_ratio(uv_hazard(Wavelength::from_nm(254.0))).ok_or("weight")?;
     let config = ExposureConfig {
-        window_ticks: 8 * HOUR,
-        bucket_ticks: MIN,
+        window_ticks: u64::from(8 * HOUR),
+        bucket_ticks: u64::from(10 * MIN),
         limit: RadiantExposure::from_j_per_m2(30.0),
         levels: [0.5, 0.8, 1.0],
         hysteresis: 0.05,
         max_gap_ticks: 30 * S,
     };
-    let mut hazard = ExposureMonitor::<481, 3, SimPin>::new(uvc_meter, s254, config, pins.clone())
+    let mut hazard = ExposureMonitor::<49, 3, SimPin>::new(uvc_meter, s254, config, pins.clone())
         .map_err(|e| format!("{e:?}"))?;
     let mut solar = SolarMonitor::<11>::new(
-        &solar_meter,
+        solar_meter.clone(),
         WeightFactor::UNWEIGHTED, // the channel's filter already applies s_er(λ)
-        10 * MIN,
-        MIN,
+        u64::from(10 * MIN),
+        u64::from(MIN),
         30 * S,
     )
     .map_err(|e| e.to_string())?;
@@ -110,8 +110,8 @@ fn main() -> Result<(), String> {
         floor: Irradiance::from_w_per_m2(1e-4),
     };
     println!(
-        "field day: rolling window 8 h in 1-min buckets = {} bytes of RAM",
-        core::mem::size_of::<photon_ledger::exposure::RollingWindow<481>>()
+        "field day: rolling window 8 h in 10-min buckets = {} bytes of RAM",
+        core::mem::size_of::<photon_ledger::exposure::RollingWindow<49>>()
     );
 
     let mut rng = Rng::new(2026);

@@ -30,14 +30,26 @@
 //!
 //! # Time
 //!
-//! Timestamps are wrapping `u32` ticks. An interval of 0 ticks (a repeated timestamp), one of
-//! 2³¹ ticks or more (time going backwards, seen through the wrap) and one longer than the
-//! configured maximum gap are each an explicit [`SampleError`], never integrated.
+//! Timestamps are wrapping `u32` ticks, classified by the one policy of [`crate::time`]: a
+//! repeated timestamp, a step backwards (the run restarts from that reading) and a gap longer
+//! than the configured maximum (forward jumps of 2³¹ ticks or more included) are each an
+//! explicit [`SampleError`], never integrated as measured dose and never blocking later
+//! readings.
+//!
+//! # Gaps: a conservative charge beside the measured dose
+//!
+//! A gap is not measured, so it is not in [`Integrator::exposure`]. It is charged with a
+//! conservative bound, max(irradiance before, irradiance after) × gap (negative codes count as
+//! zero), kept in per-range integer totals of its own ([`Integrator::gap_charge`]).
+//! Thresholds rounded [`Rounding::NotAfter`] (limits that must trip early) count the charge;
+//! thresholds rounded [`Rounding::NotBefore`] (targets that must not undershoot) count only
+//! what was measured.
 
 use crate::frontend::MAX_RANGES;
 use crate::irradiance::Meter;
 use crate::quantity::RadiantExposure;
 use crate::reading::{RangeIndex, Ticks};
+use crate::time::{clamp_max_gap, classify, Step as TimeStep};
 
 /// The largest number of dose thresholds an integrator watches at once.
 pub const MAX_THRESHOLDS: usize = 6;
@@ -46,11 +58,13 @@ pub const MAX_THRESHOLDS: usize = 6;
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum Rounding {
-    /// Fire only once the dose is certainly at or above the level (a stop target that must
-    /// never undershoot). Rounded up by one extra unit.
+    /// Fire only once the measured dose is at or above the level (a stop target that must
+    /// never undershoot): the level in integer units is rounded up. A dose exactly at the
+    /// level fires; the conversion's f64 rounding (a few parts in 10¹⁶ of the level) is
+    /// resolved towards firing at such a tie.
     NotBefore,
-    /// Fire no later than the dose reaching the level (a limit that must trip early). Rounded
-    /// down by one extra unit.
+    /// Fire no later than the dose (with any gap charge) reaching the level (a limit that must
+    /// trip early): the level in integer units is rounded down; a tie fires as above.
     NotAfter,
 }
 
@@ -87,13 +101,16 @@ impl Crossed {
 pub enum SampleError {
     /// Same timestamp as the previous sample. The sample is ignored.
     Repeated,
-    /// The timestamp is `ticks` before the previous one. The sample is ignored.
+    /// The timestamp is `ticks` (1 ..= maximum gap) before the previous one. Nothing is
+    /// integrated; the run restarts from this sample.
     Backwards {
         /// How far back, in ticks.
         ticks: u32,
     },
-    /// The interval since the previous sample is longer than the configured maximum. The
-    /// interval is **not** integrated; integration restarts from this sample.
+    /// The interval since the previous sample is longer than the configured maximum (a
+    /// forward jump of 2³¹ ticks or more included). It is **not** integrated as measured
+    /// dose: it is charged with its conservative bound ([`Integrator::gap_charge`]) and the
+    /// run restarts from this sample.
     Gap {
         /// Length of the gap, in ticks.
         ticks: u32,
@@ -144,30 +161,14 @@ struct Threshold {
     limit: i64,
 }
 
-/// Ticks from `last` to `at`, or why they do not form an interval: 0 ticks is a repeated
-/// timestamp, 2³¹ ticks or more is time going backwards (seen through the wrap).
-///
-/// # Errors
-/// [`SampleError::Repeated`] or [`SampleError::Backwards`].
-pub fn interval(last: Ticks, at: Ticks) -> Result<u32, SampleError> {
-    let dt = at.wrapping_since(last);
-    if dt == 0 {
-        Err(SampleError::Repeated)
-    } else if dt > i32::MAX as u32 {
-        Err(SampleError::Backwards {
-            ticks: dt.wrapping_neg(),
-        })
-    } else {
-        Ok(dt)
-    }
-}
-
 /// The exact dose integrator. See the [module documentation](self).
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Integrator {
     scale: [f64; MAX_RANGES],
     closed: [i128; MAX_RANGES],
+    /// Conservative charges for gaps, per range, in the same units as `closed`.
+    gap: [i128; MAX_RANGES],
     segment: i64,
     segment_range: RangeIndex,
     last: Option<LastSample>,
@@ -185,7 +186,8 @@ pub struct Integrator {
 
 impl Integrator {
     /// A zeroed integrator for `meter`. Intervals longer than `max_gap` ticks are
-    /// [`SampleError::Gap`]; values above `i32::MAX` are treated as `i32::MAX`.
+    /// [`SampleError::Gap`]; `max_gap` is clamped to 1 ..= 2³¹ − 1 ticks
+    /// ([`crate::time::clamp_max_gap`]).
     #[must_use]
     pub fn new(meter: &Meter, max_gap: u32) -> Self {
         let mut scale = [0.0; MAX_RANGES];
@@ -196,10 +198,11 @@ impl Integrator {
         Self {
             scale,
             closed: [0; MAX_RANGES],
+            gap: [0; MAX_RANGES],
             segment: 0,
             segment_range: RangeIndex(0),
             last: None,
-            max_gap: max_gap.min(i32::MAX as u32),
+            max_gap: clamp_max_gap(max_gap),
             preload_j_per_m2: 0.0,
             thresholds: heapless::Vec::new(),
             // No thresholds: nothing is crossed whatever the segment.
@@ -248,8 +251,9 @@ impl Integrator {
     /// Integrate one dark-corrected sample.
     ///
     /// # Errors
-    /// [`SampleError`] for a repeated or backwards timestamp, a gap, or an unknown range; only
-    /// a gap changes the state (integration restarts from this sample).
+    /// [`SampleError`] for a repeated or backwards timestamp, a gap, or an unknown range. A
+    /// repeat and an unknown range change nothing; after a backwards step or a gap the run
+    /// restarts from this sample (and a gap is charged, see [`gap_charge`](Self::gap_charge)).
     #[inline]
     pub fn accept(&mut self, net: i32, range: RangeIndex, at: Ticks) -> Result<Step, SampleError> {
         match self.accept_common(net, range, at) {
@@ -330,11 +334,19 @@ impl Integrator {
                 crossed: self.crossed_now(),
             });
         };
-        let dt = interval(last.at, at)?;
-        if dt > self.max_gap {
-            self.last = Some(new);
-            return Err(SampleError::Gap { ticks: dt });
-        }
+        let dt = match classify(last.at, at, self.max_gap) {
+            TimeStep::Interval(dt) => dt,
+            TimeStep::Repeated => return Err(SampleError::Repeated),
+            TimeStep::Backwards(ticks) => {
+                self.last = Some(new);
+                return Err(SampleError::Backwards { ticks });
+            }
+            TimeStep::Gap(ticks) => {
+                self.last = Some(new);
+                self.charge_gap(last, new, ticks);
+                return Err(SampleError::Gap { ticks });
+            }
+        };
         self.last = Some(new);
         let dt64 = i64::from(dt);
         if range == last.range && range == self.segment_range {
@@ -445,6 +457,28 @@ impl Integrator {
         RadiantExposure::from_j_per_m2(self.closed_j_per_m2() + self.segment_j_per_m2())
     }
 
+    /// The conservative charge for every gap so far: Σ max(irradiance before, after) × gap.
+    /// Not part of [`exposure`](Self::exposure); see the [module documentation](self).
+    #[must_use]
+    pub fn gap_charge(&self) -> RadiantExposure {
+        RadiantExposure::from_j_per_m2(self.gap_j_per_m2())
+    }
+
+    /// The measured exposure plus the gap charge: the most that can have arrived.
+    #[must_use]
+    pub fn exposure_bound(&self) -> RadiantExposure {
+        RadiantExposure::from_j_per_m2(
+            self.closed_j_per_m2() + self.segment_j_per_m2() + self.gap_j_per_m2(),
+        )
+    }
+
+    /// The exact integer gap charge of range `r` (code·ticks, doubled, like
+    /// [`raw_total`](Self::raw_total)).
+    #[must_use]
+    pub fn raw_gap(&self, r: RangeIndex) -> i128 {
+        self.gap.get(usize::from(r.0)).copied().unwrap_or(0)
+    }
+
     /// The exact integer total of range `r` (code·ticks, doubled), including the open segment.
     #[must_use]
     pub fn raw_total(&self, r: RangeIndex) -> i128 {
@@ -466,6 +500,30 @@ impl Integrator {
             sum += *c as f64 * k;
         }
         sum
+    }
+
+    fn gap_j_per_m2(&self) -> f64 {
+        let mut sum = 0.0;
+        for (g, k) in self.gap.iter().zip(self.scale.iter()) {
+            sum += *g as f64 * k;
+        }
+        sum
+    }
+
+    /// Charge a gap from `before` to `after` (`ticks` long): the end with the larger
+    /// irradiance (negative codes as zero) held for the whole gap, a rectangle of
+    /// 2 · net · ticks units in that end's range.
+    fn charge_gap(&mut self, before: LastSample, after: LastSample, ticks: u32) {
+        let e_before = self.scale_of(before.range) * f64::from(before.net.max(0));
+        let e_after = self.scale_of(after.range) * f64::from(after.net.max(0));
+        let end = if e_after > e_before { after } else { before };
+        let units = 2 * i128::from(end.net.max(0)) * i128::from(ticks);
+        if units > 0 {
+            if let Some(g) = self.gap.get_mut(usize::from(end.range.0)) {
+                *g = g.saturating_add(units);
+            }
+            self.recompute_limits();
+        }
     }
 
     fn scale_of(&self, r: RangeIndex) -> f64 {
@@ -491,11 +549,19 @@ impl Integrator {
         if k <= 0.0 || !t.level_j_per_m2.is_finite() {
             return i64::MAX;
         }
-        let x = (t.level_j_per_m2 - self.closed_j_per_m2()) / k;
+        let base = match t.rounding {
+            Rounding::NotBefore => self.closed_j_per_m2(),
+            Rounding::NotAfter => self.closed_j_per_m2() + self.gap_j_per_m2(),
+        };
+        let x = (t.level_j_per_m2 - base) / k;
+        // The f64 rounding of the conversion, in units: a few ulps of the operands. A level
+        // within it of a whole number of units is taken as that number, so a dose exactly at
+        // the level fires (ties resolved towards firing; the error is < 1e-15 of the level).
+        let slack = (libm::fabs(t.level_j_per_m2) + libm::fabs(base)) / k * TIE_SLACK;
         // `as` from f64 saturates at the i64 bounds (and maps NaN to 0, excluded above).
         match t.rounding {
-            Rounding::NotBefore => (libm::ceil(x) as i64).saturating_add(1),
-            Rounding::NotAfter => (libm::floor(x) as i64).saturating_sub(1),
+            Rounding::NotBefore => libm::ceil(x - slack) as i64,
+            Rounding::NotAfter => libm::floor(x + slack) as i64,
         }
     }
 
@@ -511,6 +577,9 @@ impl Integrator {
         self.refresh_crossed();
     }
 }
+
+/// Relative slack of a threshold conversion (8 ulps): see `limit_for`.
+const TIE_SLACK: f64 = 8.0 * f64::EPSILON;
 
 /// Bounds of the crossed-set cache band (see `refresh_crossed`).
 const BAND_MIN: i64 = i64::MIN + (1 << 31);
@@ -594,10 +663,6 @@ mod tests {
             i.accept(10, RangeIndex(0), Ticks(start)),
             Err(SampleError::Repeated)
         );
-        assert_eq!(
-            i.accept(10, RangeIndex(0), Ticks(start - 3)),
-            Err(SampleError::Backwards { ticks: 3 })
-        );
         // Across the wrap: 50 ticks later is fine.
         let s = i
             .accept(10, RangeIndex(0), Ticks(start).wrapping_add(50))
@@ -608,11 +673,96 @@ mod tests {
             i.accept(10, RangeIndex(0), Ticks(start).wrapping_add(151)),
             Err(SampleError::Gap { ticks: 101 })
         );
-        // The gap was not integrated.
+        // The gap was not integrated as measured dose: it is charged beside it,
+        // 10 W/m² × 0.101 s.
         assert!((i.exposure().j_per_m2() - 0.5).abs() < 1e-12);
+        assert!((i.gap_charge().j_per_m2() - 1.01).abs() < 1e-12);
+        assert!((i.exposure_bound().j_per_m2() - 1.51).abs() < 1e-12);
         assert_eq!(
             i.accept(10, RangeIndex(9), Ticks(1)),
             Err(SampleError::UnknownRange)
+        );
+    }
+
+    #[test]
+    fn a_backwards_step_restarts_the_run_and_never_blocks() {
+        let mut i = Integrator::new(&meter(), 100);
+        i.accept(10, RangeIndex(0), Ticks(1000)).unwrap();
+        i.accept(10, RangeIndex(0), Ticks(1010)).unwrap();
+        assert_eq!(
+            i.accept(10, RangeIndex(0), Ticks(1003)),
+            Err(SampleError::Backwards { ticks: 7 })
+        );
+        // The next reading integrates from the re-anchored 1003, not from 1010.
+        assert_eq!(
+            i.accept(10, RangeIndex(0), Ticks(1005)).unwrap().interval,
+            2
+        );
+        // 10 W/m² over 10 + 2 ticks of 1 ms.
+        assert_eq!(i.raw_total(RangeIndex(0)), 20 * 12);
+        assert_eq!(i.gap_charge().j_per_m2(), 0.0);
+    }
+
+    #[test]
+    fn a_forward_jump_of_half_the_counter_is_a_gap_not_a_blinding() {
+        // Before the shared policy, a jump of 2³¹ ticks or more read as "backwards" and every
+        // later sample was refused until the counter passed the old value.
+        let mut i = Integrator::new(&meter(), 1000);
+        i.accept(4, RangeIndex(0), Ticks(0)).unwrap();
+        let jump = (1u32 << 31) + 12_345;
+        assert_eq!(
+            i.accept(6, RangeIndex(0), Ticks(jump)),
+            Err(SampleError::Gap { ticks: jump })
+        );
+        // Charged with the larger end (6 codes) for the whole jump.
+        assert_eq!(i.raw_gap(RangeIndex(0)), 2 * 6 * i128::from(jump));
+        // And the very next reading is integrated.
+        assert_eq!(
+            i.accept(6, RangeIndex(0), Ticks(jump + 10))
+                .unwrap()
+                .interval,
+            10
+        );
+        assert_eq!(i.raw_total(RangeIndex(0)), 12 * 10);
+    }
+
+    #[test]
+    fn a_gap_charges_the_brighter_end_even_in_another_range() {
+        // Rising light across a gap: 5 W/m² before (range 0), 30 W/m² after (3 codes in
+        // range 1). The charge is 30 W/m² × 0.5 s = 15 J/m², in range 1's units.
+        let mut i = Integrator::new(&meter(), 100);
+        i.accept(5, RangeIndex(0), Ticks(0)).unwrap();
+        assert_eq!(
+            i.accept(3, RangeIndex(1), Ticks(500)),
+            Err(SampleError::Gap { ticks: 500 })
+        );
+        assert_eq!(i.raw_gap(RangeIndex(1)), 2 * 3 * 500);
+        assert_eq!(i.raw_gap(RangeIndex(0)), 0);
+        assert!((i.gap_charge().j_per_m2() - 15.0).abs() < 1e-12);
+        // Below-dark codes charge nothing.
+        let mut j = Integrator::new(&meter(), 100);
+        j.accept(-5, RangeIndex(0), Ticks(0)).unwrap();
+        let _ = j.accept(-2, RangeIndex(0), Ticks(500));
+        assert_eq!(j.gap_charge().j_per_m2(), 0.0);
+    }
+
+    #[test]
+    fn limits_count_the_gap_charge_and_targets_do_not() {
+        let mut i = Integrator::new(&meter(), 100);
+        let target = i
+            .add_threshold(RadiantExposure::from_j_per_m2(2.0), Rounding::NotBefore)
+            .unwrap();
+        let limit = i
+            .add_threshold(RadiantExposure::from_j_per_m2(2.0), Rounding::NotAfter)
+            .unwrap();
+        i.accept(10, RangeIndex(0), Ticks(0)).unwrap();
+        // 10 W/m² × 0.2 s gap: 2 J/m² charged, nothing measured.
+        let _ = i.accept(10, RangeIndex(0), Ticks(200));
+        let c = i.crossed();
+        assert!(c.contains(limit), "the limit must count the gap charge");
+        assert!(
+            !c.contains(target),
+            "the target must count only measured dose"
         );
     }
 
@@ -665,33 +815,33 @@ mod tests {
             }
         }
         let h = i.exposure().j_per_m2();
-        assert!((10.0..10.0 + 20.0 * 0.01 + 1e-9).contains(&h), "{h}");
-        // 5 J/m² at 20 W/m² takes 250 ms; the dose is exactly 10 J/m² at 250 ms and the stop
-        // target is rounded up by one unit, so it fires at the next sample.
-        assert_eq!(t, 260);
+        assert!((10.0 - 1e-12..10.0 + 1e-12).contains(&h), "{h}");
+        // 5 J/m² at 20 W/m² takes 250 ms; the dose is exactly 10 J/m² at 250 ms, a tie,
+        // which fires at that very sample.
+        assert_eq!(t, 250);
     }
 
     #[test]
     fn units_to_threshold_counts_down_in_segment_units() {
         let mut i = Integrator::new(&meter(), 10_000);
-        // 1 J/m² in range 1 (10 W/m² per code, 1000 ticks/s): ½·10/1000 = 0.005 J/m² per
-        // unit, so 200 units, rounded up by one extra unit (NotBefore) = 201.
+        // 1 J/m² in range 0 (1 W/m² per code, 1000 ticks/s): ½·1/1000 = 0.0005 J/m² per
+        // unit, so 2000 units exactly (a tie needs no extra unit).
         let id = i
             .add_threshold(RadiantExposure::from_j_per_m2(1.0), Rounding::NotBefore)
             .unwrap();
-        // Before any interval the segment is still the initial one (range 0, 0.0005 J/m² per
-        // unit): 2000 units + 1.
-        assert_eq!(i.units_to_threshold(id), Some(2001));
+        // Before any interval the segment is still the initial one (range 0).
+        assert_eq!(i.units_to_threshold(id), Some(2000));
         i.accept(5, RangeIndex(1), Ticks(0)).unwrap();
         assert_eq!(i.segment_range(), RangeIndex(0));
-        assert_eq!(i.units_to_threshold(id), Some(2001));
-        // 10 ticks at net 5 in range 1: (5 + 5)·10 = 100 units of 0.005 J/m² = 0.5 J/m²,
-        // and the segment is now range 1.
+        assert_eq!(i.units_to_threshold(id), Some(2000));
+        // 10 ticks at net 5 in range 1 (0.005 J/m² per unit): the first end's half
+        // (5·10 = 50 units) closes into range 1's total, the second opens the segment with
+        // 50 units; 0.25 J/m² is closed, so (1 − 0.25) / 0.005 = 150 units − 50 = 100 remain.
         i.accept(5, RangeIndex(1), Ticks(10)).unwrap();
         assert_eq!(i.segment_range(), RangeIndex(1));
-        assert_eq!(i.units_to_threshold(id), Some(101));
+        assert_eq!(i.units_to_threshold(id), Some(100));
         i.accept(5, RangeIndex(1), Ticks(21)).unwrap();
-        assert_eq!(i.units_to_threshold(id), Some(-9));
+        assert_eq!(i.units_to_threshold(id), Some(-10));
         assert!(i.crossed().contains(id));
         assert_eq!(i.units_to_threshold(ThresholdId(5)), None);
     }

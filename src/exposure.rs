@@ -6,44 +6,58 @@
 //! constant times the radiant exposure ([`WeightFactor`], computed at configuration time from
 //! the band and the action spectrum), so the per-sample work stays in integers.
 //!
-//! # Stages
+//! # One integral under every figure
 //!
-//! - [`Accrual`] turns consecutive readings into integer increments of effective exposure
-//!   (fixed point, 2⁻³² of a [quantum](QUANTUM_J_PER_M2)), by the trapezoid rule on the
-//!   samples' own timestamps; negative (below-dark) codes count as zero, which can only
-//!   overestimate. A gap longer than the configured maximum is **not** skipped: it is charged
-//!   with a conservative bound, the last irradiance × the gap, and reported.
-//! - [`RollingWindow`] keeps the last `B` complete time buckets plus the current one, so
-//!   dose that leaves the window is subtracted exactly (integer quanta). The window always
-//!   covers at least the configured length (between `B` and `B + 1` buckets), which errs on
-//!   the side of counting more.
-//! - [`ExposureMonitor`] compares the window with the limit, drives one output per warning
-//!   level with hysteresis, latches the alarm (the top level) until acknowledged, keeps
-//!   per-shift totals, and reports the remaining allowed time `t = remaining / E_eff`.
+//! - [`WeightedDose`] feeds each reading to the crate's one exact integral, a
+//!   [`dose::Integrator`](crate::dose::Integrator) (negative, below-dark codes count as zero,
+//!   which can only overestimate), and reads the integral out in one **common integer unit**
+//!   across amplifier ranges: range `r` weighs `w_r` units per integrator unit, with `w_r` an
+//!   integer of at least 2⁴⁰ (rounded up), so the weighted total carries a relative over-read
+//!   of at most 2⁻⁴⁰ (9·10⁻¹³) — and none at all when the ranges' scales lie within 2¹⁰ of each
+//!   other, where every `w_r` is exact. A meter whose ranges differ by more than 2²² in scale
+//!   is refused ([`ExposureConfigError::RangeSpread`]) rather than read with less precision.
+//!   A gap is charged by the integrator's shared policy ([`crate::time`]),
+//!   max(before, after) × gap, and reported beside the measured dose.
+//! - [`RollingWindow`] keeps marks of that running total at the bucket boundaries, on the
+//!   64-bit [`Clock`]: the window total is the running total minus the mark where the window
+//!   begins — the exact trapezoid of every interval that ended in the last `B` complete
+//!   buckets or the current one, with nothing clipped or rounded when a bucket closes. The
+//!   window always covers at least the configured length (between `B` and `B + 1` buckets),
+//!   which errs on the side of counting more.
+//! - [`ExposureMonitor`] compares the window with the limit (levels pre-converted to the
+//!   integer unit, rounded down so they trip early), drives one output per warning level with
+//!   hysteresis, latches the alarm (the top level) until acknowledged, keeps per-shift totals,
+//!   and reports the remaining allowed time `t = remaining / E_eff`.
 //! - [`SolarMonitor`] gives the UV index (WHO 2002: 40 m²/W × erythemal irradiance, averaged
 //!   over a configurable period, reported as an integer) with the WHO categories, and the
 //!   day's erythemal dose in SED (100 J/m², ISO/CIE 17166).
 //! - [`SamplingPlan`] chooses the next sample time for battery-friendly duty cycling, and
 //!   [`display`] formats short status lines for a character display without float formatting.
 //!
+//! A saturated (top-rail) reading means the light is at least the range's full scale; the
+//! monitors count it at full scale (a lower bound of the truth) and report it, rather than
+//! bridging it from the neighbouring readings, which would under-count.
+//!
 //! Two rule sets for the UV-A eye limit exist and differ by a factor of about 29 for long
 //! exposures; they are offered separately ([`crate::weighting::UvaEyeRule`]), never merged.
 
-use core::num::NonZeroU32;
-
 use embedded_hal::digital::OutputPin;
 
-use crate::dose::{interval, LastSample, SampleError};
+use crate::dose::{Integrator, SampleError};
 use crate::frontend::{CodeFault, MAX_RANGES};
 use crate::irradiance::Meter;
 use crate::quantity::{Irradiance, RadiantExposure, Seconds};
 use crate::reading::{RangeIndex, Reading, Ticks};
+use crate::time::Clock;
 use crate::weighting::{UvIndex, UvIndexCategory, WeightedFactor, SED_J_PER_M2};
 
-/// The integer quantum of effective radiant exposure in windows and totals: 1 µJ/m².
-pub const QUANTUM_J_PER_M2: f64 = 1e-6;
-const FRAC_BITS: u32 = 32;
-const FRAC_ONE: u128 = 1 << FRAC_BITS;
+/// The fewest bits of precision of a range's weight in the common unit: a relative over-read
+/// of at most 2⁻⁴⁰ ≈ 9.1·10⁻¹³.
+pub const MIN_PRECISION_BITS: u32 = 40;
+
+/// The largest ratio between the scales of two amplifier ranges that the common unit holds
+/// at [`MIN_PRECISION_BITS`]: 2²² (about 4.2·10⁶).
+pub const MAX_RANGE_SPREAD: f64 = (1u64 << (62 - MIN_PRECISION_BITS)) as f64;
 
 /// Effective (weighted) irradiance ÷ radiant irradiance for the configured band and action
 /// spectrum; dimensionless. Valid: finite, > 0. 1.0 for an unweighted band quantity.
@@ -75,12 +89,14 @@ impl WeightFactor {
 /// Why an exposure configuration was rejected.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
 pub enum ExposureConfigError {
     /// Bucket length 0, or window not a whole number (≥ 1) of buckets.
     WindowNotWholeBuckets,
     /// The window needs more buckets than the capacity `N − 1`.
     WindowTooLong,
-    /// The limit is not finite or ≤ 0.
+    /// The limit is not finite, ≤ 0, or too large for the common integer unit (above 2¹²⁶
+    /// units).
     Limit,
     /// Warning fractions not finite, not > 0, or not strictly increasing.
     WarningLevels,
@@ -88,8 +104,13 @@ pub enum ExposureConfigError {
     Hysteresis,
     /// Maximum gap is 0 or ≥ 2³¹ ticks.
     MaxGap,
-    /// The meter's scale is too small or too large for the fixed-point accrual.
+    /// A range's weighted scale (J/m² per integrator unit) is not finite and > 0, or lies
+    /// outside the normal `f64` range.
     Scale,
+    /// The meter's ranges differ in scale by more than [`MAX_RANGE_SPREAD`] (2²²): the
+    /// common integer unit would hold the finest range with fewer than
+    /// [`MIN_PRECISION_BITS`] bits.
+    RangeSpread,
     /// The averaging period of the UV index is 0 or not whole buckets.
     AveragingPeriod,
 }
@@ -99,11 +120,14 @@ impl core::fmt::Display for ExposureConfigError {
         f.write_str(match self {
             Self::WindowNotWholeBuckets => "window must be a whole number of non-empty buckets",
             Self::WindowTooLong => "window needs more buckets than the capacity",
-            Self::Limit => "limit must be finite and > 0",
+            Self::Limit => "limit must be finite, > 0 and below 2^126 common units",
             Self::WarningLevels => "warning fractions must be finite, > 0 and increasing",
             Self::Hysteresis => "hysteresis must be >= 0 and below the lowest warning level",
             Self::MaxGap => "maximum gap must be 1 to 2^31-1 ticks",
-            Self::Scale => "meter scale out of range for the exposure accrual",
+            Self::Scale => "meter scale must be finite, > 0 and a normal f64",
+            Self::RangeSpread => {
+                "amplifier ranges differ in scale by more than 2^22 (40-bit precision bound)"
+            }
             Self::AveragingPeriod => "averaging period must be whole, non-empty buckets",
         })
     }
@@ -117,237 +141,323 @@ impl core::error::Error for ExposureConfigError {}
 pub struct Gap {
     /// Length of the gap, ticks.
     pub ticks: u32,
-    /// Effective exposure charged for it: last effective irradiance × gap.
+    /// Effective exposure charged for it: max(effective irradiance before, after) × gap.
     pub bound: RadiantExposure,
 }
 
-/// What one reading added.
+/// What one reading did to a [`WeightedDose`].
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum Accrued {
-    /// The first reading of a run: nothing to integrate yet.
+    /// The first reading of a run (or the first after a backwards step): nothing to
+    /// integrate yet.
     Started,
-    /// An interval integrated: fixed-point quanta (2⁻³² µJ/m² effective).
-    Interval(u128),
-    /// A gap charged with its bound (fixed-point quanta), and the gap itself.
-    Gap(u128, Gap),
+    /// An interval of this many ticks integrated.
+    Interval(u32),
+    /// A gap charged with its bound.
+    Gap(Gap),
 }
 
-/// Per-sample accrual of effective exposure in fixed-point integer quanta.
+/// Per-range weights of the common integer unit. See the [module documentation](self).
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+struct CommonScale {
+    /// Common units per integrator unit, per range (0 for ranges the meter lacks).
+    weight: [u64; MAX_RANGES],
+    /// Effective J/m² per common unit (a power of two).
+    unit_j_per_m2: f64,
+}
+
+impl CommonScale {
+    fn new(meter: &Meter, factor: WeightFactor) -> Result<Self, ExposureConfigError> {
+        let n = meter.front_end().range_count().min(MAX_RANGES);
+        let mut k = [0.0f64; MAX_RANGES];
+        let mut e_min = i32::MAX;
+        let mut e_max = i32::MIN;
+        for (r, slot) in (0u8..MAX_RANGES as u8).zip(k.iter_mut()).take(n) {
+            let v = meter.j_per_m2_per_unit(RangeIndex(r)) * factor.ratio();
+            if !(v.is_finite() && v >= f64::MIN_POSITIVE) {
+                return Err(ExposureConfigError::Scale);
+            }
+            *slot = v;
+            // v = m · 2^e with 0.5 ≤ m < 1: 2^(e−1) ≤ v < 2^e.
+            let (_, e) = libm::frexp(v);
+            e_min = e_min.min(e);
+            e_max = e_max.max(e);
+        }
+        if n == 0 {
+            return Err(ExposureConfigError::Scale);
+        }
+        // The unit 2^(e_max − 63) puts the coarsest range below 2⁶³ units and the finest at
+        // 2^(62 − spread) or more.
+        let spread = e_max.saturating_sub(e_min);
+        if spread > 62 - MIN_PRECISION_BITS as i32 {
+            return Err(ExposureConfigError::RangeSpread);
+        }
+        let unit = libm::ldexp(1.0, e_max.saturating_sub(63));
+        if !(unit >= f64::MIN_POSITIVE) {
+            return Err(ExposureConfigError::Scale);
+        }
+        let mut weight = [0u64; MAX_RANGES];
+        for (w, v) in weight.iter_mut().zip(k.iter()).take(n) {
+            // v / unit is v scaled by a power of two: exact. Rounded up: never under-reads.
+            *w = libm::ceil(v / unit) as u64;
+        }
+        Ok(Self {
+            weight,
+            unit_j_per_m2: unit,
+        })
+    }
+
+    /// Σ_r w_r · raw_r in wrapping `u128` arithmetic (only differences are used).
+    fn combine(&self, raw: impl Fn(RangeIndex) -> i128) -> u128 {
+        let mut sum = 0u128;
+        for (r, w) in (0u8..MAX_RANGES as u8).zip(self.weight.iter()) {
+            if *w != 0 {
+                // raw ≥ 0: the monitors feed non-negative codes only.
+                let v = raw(RangeIndex(r)).max(0) as u128;
+                sum = sum.wrapping_add(v.wrapping_mul(u128::from(*w)));
+            }
+        }
+        sum
+    }
+
+    fn exposure(&self, units: u128) -> RadiantExposure {
+        RadiantExposure::from_j_per_m2(units as f64 * self.unit_j_per_m2)
+    }
+
+    /// A level in common units, rounded down (a limit trips early); `None` if not finite,
+    /// ≤ 0 or above 2¹²⁶ units.
+    fn level_units(&self, level: RadiantExposure) -> Option<u128> {
+        let x = level.j_per_m2() / self.unit_j_per_m2;
+        (x.is_finite() && x >= 0.0 && x < TWO_POW_126).then(|| libm::floor(x) as u128)
+    }
+}
+
+const TWO_POW_126: f64 = 85_070_591_730_234_615_865_843_651_857_942_052_864.0;
+
+/// Effective (weighted) dose from the crate's one integral, on the 64-bit clock. See the
+/// [module documentation](self).
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct Accrual {
-    /// Fixed-point quanta per integer unit (net code × tick, doubled), per range.
-    per_unit: [u64; MAX_RANGES],
-    w_per_m2_eff_per_code: [f64; MAX_RANGES],
-    tick_hz: u32,
-    max_gap: u32,
-    last: Option<LastSample>,
+pub struct WeightedDose {
+    integrator: Integrator,
+    scale: CommonScale,
+    clock: Clock,
+    factor: WeightFactor,
 }
 
-impl Accrual {
-    /// Accrual for `meter` weighted by `weight`; intervals longer than `max_gap` ticks are
-    /// gaps.
+impl WeightedDose {
+    /// Weighted dose for `meter` and `factor`; intervals longer than `max_gap` ticks are gaps.
     ///
     /// # Errors
-    /// [`ExposureConfigError::MaxGap`] or [`ExposureConfigError::Scale`].
+    /// [`ExposureConfigError::MaxGap`], [`ExposureConfigError::Scale`] or
+    /// [`ExposureConfigError::RangeSpread`].
     pub fn new(
         meter: &Meter,
-        weight: WeightFactor,
+        factor: WeightFactor,
         max_gap: u32,
     ) -> Result<Self, ExposureConfigError> {
         if max_gap == 0 || max_gap > i32::MAX as u32 {
             return Err(ExposureConfigError::MaxGap);
         }
-        let mut per_unit = [0u64; MAX_RANGES];
-        let mut eff = [0.0f64; MAX_RANGES];
-        for r in 0..meter.front_end().range_count().min(MAX_RANGES) {
-            let ri = RangeIndex(r as u8);
-            let scale = meter.j_per_m2_per_unit(ri) * weight.ratio() / QUANTUM_J_PER_M2;
-            let fixed = libm::ceil(scale * FRAC_ONE as f64);
-            if !(fixed >= 1.0 && fixed < u64::MAX as f64) {
-                return Err(ExposureConfigError::Scale);
-            }
-            if let (Some(p), Some(e)) = (per_unit.get_mut(r), eff.get_mut(r)) {
-                *p = fixed as u64;
-                *e = meter.irradiance(1, ri).w_per_m2() * weight.ratio();
-            }
-        }
         Ok(Self {
-            per_unit,
-            w_per_m2_eff_per_code: eff,
-            tick_hz: meter.tick_rate().hz(),
-            max_gap,
-            last: None,
+            integrator: Integrator::new(meter, max_gap),
+            scale: CommonScale::new(meter, factor)?,
+            clock: Clock::new(max_gap),
+            factor,
         })
     }
 
-    /// Effective irradiance of the last reading.
-    #[must_use]
-    pub fn effective_irradiance(&self) -> Irradiance {
-        self.last.map_or(Irradiance::ZERO, |l| {
-            let k = self
-                .w_per_m2_eff_per_code
-                .get(usize::from(l.range.0))
-                .copied()
-                .unwrap_or(0.0);
-            Irradiance::from_w_per_m2(f64::from(l.net.max(0)) * k)
-        })
+    /// Move the 64-bit clock to `at` (a reading's or a timer's tick) and return its count.
+    pub fn advance_clock(&mut self, at: Ticks) -> u64 {
+        self.clock.advance(at);
+        self.clock.now()
     }
 
-    /// The last accepted reading.
+    /// Ticks since the first tick seen, never decreasing.
     #[must_use]
-    pub const fn last(&self) -> Option<LastSample> {
-        self.last
+    pub const fn now(&self) -> u64 {
+        self.clock.now()
     }
 
-    /// Integrate one dark-corrected reading.
+    /// Integrate one dark-corrected net code (negative codes count as zero). Call
+    /// [`advance_clock`](Self::advance_clock) with the same tick first when a rolling window
+    /// is kept.
     ///
     /// # Errors
-    /// [`SampleError::Repeated`], [`SampleError::Backwards`] or [`SampleError::UnknownRange`];
-    /// the reading is then ignored. (A gap is not an error here: it is charged and reported.)
+    /// [`SampleError::Repeated`], [`SampleError::Backwards`] (the run restarts from this
+    /// reading) or [`SampleError::UnknownRange`]; nothing is integrated. A gap is not an error
+    /// here: it is charged and reported.
     pub fn accept(
         &mut self,
         net: i32,
         range: RangeIndex,
         at: Ticks,
     ) -> Result<Accrued, SampleError> {
-        let Some(k_new) = self.per_unit.get(usize::from(range.0)).copied() else {
-            return Err(SampleError::UnknownRange);
-        };
-        let new = LastSample { at, net, range };
-        let Some(last) = self.last else {
-            self.last = Some(new);
-            return Ok(Accrued::Started);
-        };
-        let dt = interval(last.at, at)?;
-        let k_last = self
-            .per_unit
-            .get(usize::from(last.range.0))
-            .copied()
-            .unwrap_or(0);
-        let a = u128::from(last.net.max(0).unsigned_abs());
-        let b = u128::from(net.max(0).unsigned_abs());
-        let dt128 = u128::from(dt);
-        self.last = Some(new);
-        if dt > self.max_gap {
-            // Conservative: the last irradiance for the whole gap (rectangle, ×2 for the
-            // doubled trapezoid scale). a < 2³¹ and dt < 2³² keep the first product < 2⁶⁴.
-            let q = (a * 2 * dt128).saturating_mul(u128::from(k_last));
-            let bound =
-                RadiantExposure::from_j_per_m2(q as f64 / FRAC_ONE as f64 * QUANTUM_J_PER_M2);
-            return Ok(Accrued::Gap(q, Gap { ticks: dt, bound }));
+        let before = self.gap_units();
+        match self.integrator.accept(net.max(0), range, at) {
+            Ok(step) if step.interval == 0 => Ok(Accrued::Started),
+            Ok(step) => Ok(Accrued::Interval(step.interval)),
+            Err(SampleError::Gap { ticks }) => {
+                let charged = self.gap_units().wrapping_sub(before);
+                Ok(Accrued::Gap(Gap {
+                    ticks,
+                    bound: self.scale.exposure(charged),
+                }))
+            }
+            Err(e) => Err(e),
         }
-        // Each end of the trapezoid in its own range's scale.
-        let q = (a * dt128)
-            .saturating_mul(u128::from(k_last))
-            .saturating_add((b * dt128).saturating_mul(u128::from(k_new)));
-        Ok(Accrued::Interval(q))
+    }
+
+    /// The running total (measured + gap charges) in common units. It wraps modulo 2¹²⁸:
+    /// use differences of two read-outs, as the window does.
+    #[must_use]
+    pub fn total_units(&self) -> u128 {
+        self.measured_units().wrapping_add(self.gap_units())
+    }
+
+    /// The running gap charge in common units (wrapping, as [`total_units`](Self::total_units)).
+    #[must_use]
+    pub fn gap_units(&self) -> u128 {
+        self.scale.combine(|r| self.integrator.raw_gap(r))
+    }
+
+    fn measured_units(&self) -> u128 {
+        self.scale.combine(|r| self.integrator.raw_total(r))
+    }
+
+    /// Common units as effective radiant exposure.
+    #[must_use]
+    pub fn to_exposure(&self, units: u128) -> RadiantExposure {
+        self.scale.exposure(units)
+    }
+
+    /// Effective J/m² per common unit.
+    #[must_use]
+    pub const fn unit_j_per_m2(&self) -> f64 {
+        self.scale.unit_j_per_m2
+    }
+
+    /// A level in common units, rounded down (trips early); `None` when not representable.
+    #[must_use]
+    pub fn level_units(&self, level: RadiantExposure) -> Option<u128> {
+        self.scale.level_units(level)
+    }
+
+    /// Effective irradiance of the last integrated reading (negative codes as zero).
+    #[must_use]
+    pub fn effective_irradiance(&self, meter: &Meter) -> Irradiance {
+        self.integrator.last().map_or(Irradiance::ZERO, |l| {
+            Irradiance::from_w_per_m2(
+                meter.irradiance(l.net.max(0), l.range).w_per_m2() * self.factor.ratio(),
+            )
+        })
+    }
+
+    /// The integral underneath (read-only): measured dose and gap charge, unweighted.
+    #[must_use]
+    pub const fn integrator(&self) -> &Integrator {
+        &self.integrator
     }
 
     /// Forget the last reading (after a pause the caller accounts for).
     pub fn break_run(&mut self) {
-        self.last = None;
-    }
-
-    /// Seconds per tick.
-    #[must_use]
-    pub fn ticks_to_s(&self, ticks: u32) -> f64 {
-        f64::from(ticks) / f64::from(self.tick_hz)
+        self.integrator.break_run();
     }
 }
 
-/// Rolling sum over `B` complete buckets plus the current one, `B ≤ N − 1`, in integer
-/// quanta. See the [module documentation](self).
+/// Rolling sum over `B` complete buckets plus the current one, `B ≤ N − 1`, as marks of a
+/// running total. See the [module documentation](self).
+///
+/// RAM: 16 bytes per bucket (`RollingWindow<481>`, 8 h in 1-min buckets, is about 7.7 KiB;
+/// 8 h in 10-min buckets, `RollingWindow<49>`, about 0.8 KiB).
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct RollingWindow<const N: usize> {
-    buckets: [u32; N],
+    /// The running total at the end of each of the last `used + 1` buckets (ring).
+    marks: [u128; N],
     used: usize,
-    pos: usize,
-    /// Non-zero, so the division in `roll_to` has no divide-by-zero path.
-    bucket_ticks: NonZeroU32,
-    bucket_start: Option<Ticks>,
-    current: u128,
-    sum: u64,
+    /// Index of the newest mark.
+    head: usize,
+    bucket_ticks: u64,
+    /// Index of the open bucket on the 64-bit clock (bucket k covers [k·b, (k+1)·b)).
+    current: u64,
 }
 
 impl<const N: usize> RollingWindow<N> {
     const CAPACITY_OK: () = assert!(N >= 2, "a rolling window needs N >= 2");
 
-    /// A window of `window_ticks` in buckets of `bucket_ticks`.
+    /// A window of `window_ticks` in buckets of `bucket_ticks` (64-bit ticks: an 8 h window
+    /// at 10 MHz is 2.9·10¹¹ ticks).
     ///
     /// # Errors
     /// [`ExposureConfigError::WindowNotWholeBuckets`] or [`ExposureConfigError::WindowTooLong`].
-    pub fn new(window_ticks: u32, bucket_ticks: u32) -> Result<Self, ExposureConfigError> {
+    pub fn new(window_ticks: u64, bucket_ticks: u64) -> Result<Self, ExposureConfigError> {
         let () = Self::CAPACITY_OK;
-        let Some(bucket) = NonZeroU32::new(bucket_ticks) else {
-            return Err(ExposureConfigError::WindowNotWholeBuckets);
-        };
-        if window_ticks == 0 || !window_ticks.is_multiple_of(bucket_ticks) {
+        if bucket_ticks == 0 || window_ticks == 0 {
             return Err(ExposureConfigError::WindowNotWholeBuckets);
         }
-        let used = (window_ticks / bucket) as usize;
+        let (Some(used), Some(0)) = (
+            window_ticks.checked_div(bucket_ticks),
+            window_ticks.checked_rem(bucket_ticks),
+        ) else {
+            return Err(ExposureConfigError::WindowNotWholeBuckets);
+        };
+        let used = usize::try_from(used).map_err(|_| ExposureConfigError::WindowTooLong)?;
         if used > N.saturating_sub(1) {
             return Err(ExposureConfigError::WindowTooLong);
         }
         Ok(Self {
-            buckets: [0; N],
+            marks: [0; N],
             used,
-            pos: 0,
-            bucket_ticks: bucket,
-            bucket_start: None,
+            head: 0,
+            bucket_ticks,
             current: 0,
-            sum: 0,
         })
     }
 
-    /// Move the window to `now`, closing every bucket that ended.
-    ///
-    /// # Errors
-    /// [`SampleError::Backwards`] if `now` is before the current bucket's start.
-    pub fn roll_to(&mut self, now: Ticks) -> Result<(), SampleError> {
-        let Some(start) = self.bucket_start else {
-            self.bucket_start = Some(now);
-            return Ok(());
-        };
-        let elapsed = now.wrapping_since(start);
-        if elapsed > i32::MAX as u32 {
-            return Err(SampleError::Backwards {
-                ticks: elapsed.wrapping_neg(),
-            });
+    /// Move the window to `now` (ticks of the 64-bit clock, never decreasing), closing every
+    /// bucket that ended with the running total `total` as its mark. Call it before adding the
+    /// reading taken at `now`: an interval that spans a boundary counts in the later bucket.
+    pub fn roll_to(&mut self, now: u64, total: u128) {
+        let idx = now.checked_div(self.bucket_ticks).unwrap_or(0);
+        if idx <= self.current {
+            return;
         }
-        let n = elapsed / self.bucket_ticks;
-        // After used + 1 closings every bucket is empty; more changes nothing.
-        let closings = (n as usize).min(self.used.saturating_add(1));
+        // After used + 1 closings every mark equals `total`; more changes nothing.
+        let n = idx.wrapping_sub(self.current);
+        let closings = usize::try_from(n)
+            .unwrap_or(usize::MAX)
+            .min(self.used.saturating_add(1));
         for _ in 0..closings {
-            self.close_bucket();
+            self.head = self.next(self.head);
+            if let Some(m) = self.marks.get_mut(self.head) {
+                *m = total;
+            }
         }
-        self.bucket_start = Some(start.wrapping_add(n.wrapping_mul(self.bucket_ticks.get())));
-        Ok(())
+        self.current = idx;
     }
 
-    /// Add fixed-point quanta (2⁻³² quantum) to the current bucket.
-    pub fn add(&mut self, fixed: u128) {
-        self.current = self.current.saturating_add(fixed);
+    /// Start every mark at `total` (the running total when the window starts counting).
+    pub fn reset(&mut self, total: u128) {
+        self.marks = [total; N];
     }
 
-    /// The window total in quanta: complete buckets plus the current one (rounded up).
+    /// The window total: the running total `total` minus the mark where the window begins.
     #[must_use]
-    pub fn total_quanta(&self) -> u64 {
-        self.sum.saturating_add(ceil_quanta(self.current))
+    pub fn total(&self, total: u128) -> u128 {
+        total.wrapping_sub(self.oldest())
     }
 
-    /// The total of the complete buckets only (the last `B` whole buckets), as exposure.
+    /// The total of the complete buckets only (the last `B` whole buckets).
     #[must_use]
-    pub fn complete_total(&self) -> RadiantExposure {
-        RadiantExposure::from_j_per_m2(self.sum as f64 * QUANTUM_J_PER_M2)
-    }
-
-    /// The window total as effective radiant exposure.
-    #[must_use]
-    pub fn total(&self) -> RadiantExposure {
-        RadiantExposure::from_j_per_m2(self.total_quanta() as f64 * QUANTUM_J_PER_M2)
+    pub fn complete_total(&self) -> u128 {
+        self.marks
+            .get(self.head)
+            .copied()
+            .unwrap_or(0)
+            .wrapping_sub(self.oldest())
     }
 
     /// Number of complete buckets the window holds (`window / bucket`).
@@ -358,35 +468,22 @@ impl<const N: usize> RollingWindow<N> {
 
     /// Bucket length, ticks.
     #[must_use]
-    pub const fn bucket_ticks(&self) -> u32 {
-        self.bucket_ticks.get()
+    pub const fn bucket_ticks(&self) -> u64 {
+        self.bucket_ticks
     }
 
-    fn close_bucket(&mut self) {
-        let q = u32::try_from(ceil_quanta(self.current)).unwrap_or(u32::MAX);
-        self.current = 0;
-        if self.used == 0 {
-            return;
-        }
-        if let Some(slot) = self.buckets.get_mut(self.pos) {
-            self.sum = self
-                .sum
-                .saturating_sub(u64::from(*slot))
-                .saturating_add(u64::from(q));
-            *slot = q;
-        }
-        self.pos = if self.pos + 1 >= self.used {
+    fn oldest(&self) -> u128 {
+        self.marks.get(self.next(self.head)).copied().unwrap_or(0)
+    }
+
+    /// The ring index after `i`, over the `used + 1` marks in use.
+    fn next(&self, i: usize) -> usize {
+        if i >= self.used {
             0
         } else {
-            self.pos + 1
-        };
+            i.wrapping_add(1)
+        }
     }
-}
-
-fn ceil_quanta(fixed: u128) -> u64 {
-    let whole = fixed >> FRAC_BITS;
-    let frac = fixed & (FRAC_ONE - 1);
-    u64::try_from(whole + u128::from(frac != 0)).unwrap_or(u64::MAX)
 }
 
 /// Exposure monitor configuration.
@@ -394,9 +491,9 @@ fn ceil_quanta(fixed: u128) -> u64 {
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct ExposureConfig<const L: usize> {
     /// Rolling window, ticks (8 h for ICNIRP). Valid: a whole number of buckets.
-    pub window_ticks: u32,
+    pub window_ticks: u64,
     /// Bucket length, ticks (for example 1 min). Valid: > 0.
-    pub bucket_ticks: u32,
+    pub bucket_ticks: u64,
     /// Effective radiant exposure limit over the window (30 J/m² for ICNIRP 2004). Valid: > 0.
     pub limit: RadiantExposure,
     /// Warning levels as fractions of the limit, strictly increasing (for example
@@ -406,7 +503,7 @@ pub struct ExposureConfig<const L: usize> {
     /// the lowest level.
     pub hysteresis: f64,
     /// Longest expected interval between samples, ticks; longer ones are gaps charged with
-    /// the last irradiance. Valid: 1 ..= 2³¹ − 1.
+    /// max(irradiance before, after) × gap. Valid: 1 ..= 2³¹ − 1.
     pub max_gap_ticks: u32,
 }
 
@@ -422,6 +519,8 @@ pub struct Changes {
     pub alarm_latched: bool,
     /// A gap was charged.
     pub gap: Option<Gap>,
+    /// The reading was saturated (top rail) and counted at the range's full scale.
+    pub saturated: bool,
     /// The reading was not used: why.
     pub ignored: Option<ReadingIssue>,
 }
@@ -430,12 +529,13 @@ pub struct Changes {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum ReadingIssue {
-    /// The code cannot be used (saturated, out of range, unknown range). The interval up to the
-    /// next good reading is bridged or, if longer than the maximum gap, charged as a gap.
+    /// The code cannot be used (bottom rail, out of range, unknown range). The interval up to
+    /// the next good reading is bridged or, if longer than the maximum gap, charged as a gap.
     Code(CodeFault),
     /// Repeated timestamp.
     Repeated,
-    /// Time went backwards; the reading is ignored (nothing already counted is lost).
+    /// Time went backwards; the reading is not integrated and the run restarts from it
+    /// (nothing already counted is lost, later readings are not blocked).
     Backwards,
 }
 
@@ -443,7 +543,7 @@ pub enum ReadingIssue {
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct ShiftTotals {
-    /// Effective radiant exposure of the shift.
+    /// Effective radiant exposure of the shift, gap charges included.
     pub exposure: RadiantExposure,
     /// Of which charged for gaps (conservative bounds).
     pub gap_bounds: RadiantExposure,
@@ -460,13 +560,14 @@ pub struct ShiftTotals {
 #[derive(Debug)]
 pub struct ExposureMonitor<const N: usize, const L: usize, P> {
     meter: Meter,
-    accrual: Accrual,
+    dose: WeightedDose,
     window: RollingWindow<N>,
-    shift: u128,
-    shift_gaps: u128,
+    shift_start: u128,
+    shift_gap_start: u128,
     gaps: u32,
-    raise_q: [u64; L],
-    clear_q: [u64; L],
+    raise_units: [u128; L],
+    clear_units: [u128; L],
+    limit_units: u128,
     active: u8,
     latched: bool,
     limit: RadiantExposure,
@@ -505,28 +606,35 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
             return Err(Ok(ExposureConfigError::Hysteresis));
         }
         let window = RollingWindow::new(config.window_ticks, config.bucket_ticks).map_err(Ok)?;
-        let accrual = Accrual::new(&meter, weight, config.max_gap_ticks).map_err(Ok)?;
-        let limit_q = limit / QUANTUM_J_PER_M2;
-        let mut raise_q = [0u64; L];
-        let mut clear_q = [0u64; L];
-        for ((r, c), &l) in raise_q
+        let dose = WeightedDose::new(&meter, weight, config.max_gap_ticks).map_err(Ok)?;
+        let limit_units = dose
+            .level_units(config.limit)
+            .ok_or(Ok(ExposureConfigError::Limit))?;
+        let mut raise_units = [0u128; L];
+        let mut clear_units = [0u128; L];
+        for ((r, c), &l) in raise_units
             .iter_mut()
-            .zip(clear_q.iter_mut())
+            .zip(clear_units.iter_mut())
             .zip(&config.levels)
         {
-            // Warnings trip early: round the level down, the clear point down too.
-            *r = libm::floor(l * limit_q) as u64;
-            *c = libm::floor((l - h) * limit_q) as u64;
+            // Warnings trip early: the level and its clear point are rounded down.
+            *r = dose
+                .level_units(RadiantExposure::from_j_per_m2(l * limit))
+                .ok_or(Ok(ExposureConfigError::Limit))?;
+            *c = dose
+                .level_units(RadiantExposure::from_j_per_m2((l - h) * limit))
+                .ok_or(Ok(ExposureConfigError::Hysteresis))?;
         }
         let mut m = Self {
             meter,
-            accrual,
+            dose,
             window,
-            shift: 0,
-            shift_gaps: 0,
+            shift_start: 0,
+            shift_gap_start: 0,
             gaps: 0,
-            raise_q,
-            clear_q,
+            raise_units,
+            clear_units,
+            limit_units,
             active: 0,
             latched: false,
             limit: config.limit,
@@ -544,27 +652,21 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
     /// The pin error if a warning output cannot be written (the exposure is still counted).
     pub fn on_reading(&mut self, reading: &Reading) -> Result<Changes, P::Error> {
         let mut changes = Changes::default();
-        let net = match self.meter.front_end().net_code(reading) {
-            Ok(n) => n,
+        let net = match net_or_full_scale(&self.meter, reading) {
+            Ok((n, saturated)) => {
+                changes.saturated = saturated;
+                n
+            }
             Err(f) => {
                 changes.ignored = Some(ReadingIssue::Code(f));
                 return Ok(changes);
             }
         };
-        if self.window.roll_to(reading.at).is_err() {
-            changes.ignored = Some(ReadingIssue::Backwards);
-            return Ok(changes);
-        }
-        match self.accrual.accept(net, reading.range, reading.at) {
-            Ok(Accrued::Started) => {}
-            Ok(Accrued::Interval(q)) => {
-                self.window.add(q);
-                self.shift = self.shift.saturating_add(q);
-            }
-            Ok(Accrued::Gap(q, gap)) => {
-                self.window.add(q);
-                self.shift = self.shift.saturating_add(q);
-                self.shift_gaps = self.shift_gaps.saturating_add(q);
+        let now = self.dose.advance_clock(reading.at);
+        self.window.roll_to(now, self.dose.total_units());
+        match self.dose.accept(net, reading.range, reading.at) {
+            Ok(Accrued::Started | Accrued::Interval(_)) => {}
+            Ok(Accrued::Gap(gap)) => {
                 self.gaps = self.gaps.saturating_add(1);
                 changes.gap = Some(gap);
             }
@@ -592,12 +694,18 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
     /// The pin error if an output cannot be written.
     pub fn tick(&mut self, now: Ticks) -> Result<Changes, P::Error> {
         let mut changes = Changes::default();
-        if self.window.roll_to(now).is_err() {
-            changes.ignored = Some(ReadingIssue::Backwards);
-            return Ok(changes);
-        }
+        // A backwards or repeated tick leaves the 64-bit clock (and so the window) where it is.
+        let t = self.dose.advance_clock(now);
+        self.window.roll_to(t, self.dose.total_units());
         self.update_levels(&mut changes)?;
         Ok(changes)
+    }
+
+    /// Take a new dark offset for range `r` (between exposures, after a dark capture): every
+    /// later reading is corrected with it. Returns `false` and changes nothing if the range
+    /// does not exist or the offset is outside the code range.
+    pub fn set_dark_offset(&mut self, r: RangeIndex, dark_offset: i32) -> bool {
+        self.meter.front_end_mut().set_dark_offset(r, dark_offset)
     }
 
     /// Acknowledge the alarm. It unlatches, and its output clears once the window is below
@@ -617,8 +725,8 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
     /// alarm are **not** reset — the body does not forget at a shift change.
     pub fn end_shift(&mut self) -> ShiftTotals {
         let t = self.shift_totals();
-        self.shift = 0;
-        self.shift_gaps = 0;
+        self.shift_start = self.dose.total_units();
+        self.shift_gap_start = self.dose.gap_units();
         self.gaps = 0;
         t
     }
@@ -627,29 +735,45 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
     #[must_use]
     pub fn shift_totals(&self) -> ShiftTotals {
         ShiftTotals {
-            exposure: fixed_to_exposure(self.shift),
-            gap_bounds: fixed_to_exposure(self.shift_gaps),
+            exposure: self
+                .dose
+                .to_exposure(self.dose.total_units().wrapping_sub(self.shift_start)),
+            gap_bounds: self
+                .dose
+                .to_exposure(self.dose.gap_units().wrapping_sub(self.shift_gap_start)),
             gaps: self.gaps,
             alarm_latched: self.latched,
         }
     }
 
-    /// Effective exposure in the rolling window.
+    /// Effective exposure in the rolling window, gap charges included.
     #[must_use]
     pub fn window_exposure(&self) -> RadiantExposure {
-        self.window.total()
+        self.dose.to_exposure(self.window_units())
+    }
+
+    /// The window total in the common integer unit (see [`WeightedDose`]).
+    #[must_use]
+    pub fn window_units(&self) -> u128 {
+        self.window.total(self.dose.total_units())
+    }
+
+    /// The limit in the common integer unit, rounded down.
+    #[must_use]
+    pub const fn limit_units(&self) -> u128 {
+        self.limit_units
     }
 
     /// Fraction of the limit used in the window.
     #[must_use]
     pub fn fraction_used(&self) -> f64 {
-        self.window.total().j_per_m2() / self.limit.j_per_m2()
+        self.window_exposure().j_per_m2() / self.limit.j_per_m2()
     }
 
     /// Effective irradiance of the last reading.
     #[must_use]
     pub fn effective_irradiance(&self) -> Irradiance {
-        self.accrual.effective_irradiance()
+        self.dose.effective_irradiance(&self.meter)
     }
 
     /// Remaining allowed time at the current effective irradiance, t = remaining / E_eff;
@@ -657,7 +781,7 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
     #[must_use]
     pub fn time_left(&self) -> Option<Seconds> {
         let e = self.effective_irradiance().w_per_m2();
-        let remaining = (self.limit.j_per_m2() - self.window.total().j_per_m2()).max(0.0);
+        let remaining = (self.limit.j_per_m2() - self.window_exposure().j_per_m2()).max(0.0);
         (e > 0.0).then(|| Seconds::from_s(remaining / e))
     }
 
@@ -679,17 +803,24 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
         &self.meter
     }
 
+    /// The weighted dose underneath (its integral, clock and common unit).
+    #[must_use]
+    pub const fn dose(&self) -> &WeightedDose {
+        &self.dose
+    }
+
     /// Give the pins back.
     pub fn release(self) -> [P; L] {
         self.pins
     }
 
     fn update_levels(&mut self, changes: &mut Changes) -> Result<(), P::Error> {
-        let total = self.window.total_quanta();
+        let total = self.window_units();
         let alarm = alarm_bit::<L>();
         for i in 0..L {
             let bit = 1u8 << i;
-            let (Some(&raise), Some(&clear)) = (self.raise_q.get(i), self.clear_q.get(i)) else {
+            let (Some(&raise), Some(&clear)) = (self.raise_units.get(i), self.clear_units.get(i))
+            else {
                 continue;
             };
             let was = self.active & bit != 0;
@@ -720,6 +851,21 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
     }
 }
 
+/// The net code of a reading, or the range's full-scale net code for a top-rail (saturated)
+/// reading — the least the light can be — with `true`.
+fn net_or_full_scale(meter: &Meter, reading: &Reading) -> Result<(i32, bool), CodeFault> {
+    let fe = meter.front_end();
+    match fe.net_code(reading) {
+        Ok(n) => Ok((n, false)),
+        Err(CodeFault::SaturatedHigh) => {
+            let dark = fe.range(reading.range).map_or(0, |r| r.dark_offset);
+            // Both lie within the code range (±2²⁴): the difference never wraps.
+            Ok((fe.high_limit().wrapping_sub(dark), true))
+        }
+        Err(f) => Err(f),
+    }
+}
+
 const fn alarm_bit<const L: usize>() -> u8 {
     if L == 0 || L > 8 {
         0
@@ -728,18 +874,15 @@ const fn alarm_bit<const L: usize>() -> u8 {
     }
 }
 
-fn fixed_to_exposure(fixed: u128) -> RadiantExposure {
-    RadiantExposure::from_j_per_m2(ceil_quanta(fixed) as f64 * QUANTUM_J_PER_M2)
-}
-
 /// Solar UV: live UV index (averaged) and the day's erythemal dose in SED.
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct SolarMonitor<const N: usize> {
-    accrual: Accrual,
+    meter: Meter,
+    dose: WeightedDose,
     average: RollingWindow<N>,
     averaging_s: f64,
-    day: u128,
+    day_start: u128,
 }
 
 impl<const N: usize> SolarMonitor<N> {
@@ -750,43 +893,59 @@ impl<const N: usize> SolarMonitor<N> {
     /// # Errors
     /// [`ExposureConfigError`] for an invalid period, gap or scale.
     pub fn new(
-        meter: &Meter,
+        meter: Meter,
         erythema: WeightFactor,
-        averaging_ticks: u32,
-        bucket_ticks: u32,
+        averaging_ticks: u64,
+        bucket_ticks: u64,
         max_gap_ticks: u32,
     ) -> Result<Self, ExposureConfigError> {
         let average = RollingWindow::new(averaging_ticks, bucket_ticks)
             .map_err(|_| ExposureConfigError::AveragingPeriod)?;
-        let accrual = Accrual::new(meter, erythema, max_gap_ticks)?;
-        let averaging_s = accrual.ticks_to_s(averaging_ticks);
+        let dose = WeightedDose::new(&meter, erythema, max_gap_ticks)?;
+        let averaging_s = averaging_ticks as f64 / f64::from(meter.tick_rate().hz());
         Ok(Self {
-            accrual,
+            meter,
+            dose,
             average,
             averaging_s,
-            day: 0,
+            day_start: 0,
         })
     }
 
-    /// Feed one dark-corrected reading (use [`crate::frontend::FrontEnd::net_code`] first).
+    /// Feed one reading: as [`accept`](Self::accept) after the front end's net code, with a
+    /// top-rail (saturated) reading counted at the range's full scale.
     ///
     /// # Errors
-    /// As [`Accrual::accept`]; gaps are charged with their bound and returned.
+    /// [`SampleError::UnknownRange`] for a code that cannot be used; otherwise as
+    /// [`accept`](Self::accept).
+    pub fn on_reading(&mut self, reading: &Reading) -> Result<Option<Gap>, SampleError> {
+        let (net, _) =
+            net_or_full_scale(&self.meter, reading).map_err(|_| SampleError::UnknownRange)?;
+        self.accept(net, reading.range, reading.at)
+    }
+
+    /// Feed one dark-corrected net code (from [`crate::frontend::FrontEnd::net_code`]).
+    ///
+    /// # Errors
+    /// As [`WeightedDose::accept`]; gaps are charged with their bound and returned.
     pub fn accept(
         &mut self,
         net: i32,
         range: RangeIndex,
         at: Ticks,
     ) -> Result<Option<Gap>, SampleError> {
-        self.average.roll_to(at)?;
-        let (q, gap) = match self.accrual.accept(net, range, at)? {
-            Accrued::Started => (0, None),
-            Accrued::Interval(q) => (q, None),
-            Accrued::Gap(q, g) => (q, Some(g)),
-        };
-        self.average.add(q);
-        self.day = self.day.saturating_add(q);
-        Ok(gap)
+        let now = self.dose.advance_clock(at);
+        self.average.roll_to(now, self.dose.total_units());
+        Ok(match self.dose.accept(net, range, at)? {
+            Accrued::Started | Accrued::Interval(_) => None,
+            Accrued::Gap(g) => Some(g),
+        })
+    }
+
+    /// The meter.
+    #[must_use]
+    pub const fn meter(&self) -> &Meter {
+        &self.meter
     }
 
     /// UV index averaged over the configured period: the erythemal exposure of the last
@@ -796,7 +955,10 @@ impl<const N: usize> SolarMonitor<N> {
     pub fn uv_index(&self) -> UvIndex {
         let full_s = self.averaging_s;
         let mean = if full_s > 0.0 {
-            self.average.complete_total().j_per_m2() / full_s
+            self.dose
+                .to_exposure(self.average.complete_total())
+                .j_per_m2()
+                / full_s
         } else {
             0.0
         };
@@ -814,18 +976,19 @@ impl<const N: usize> SolarMonitor<N> {
     /// Live UV index from the last reading alone (no averaging).
     #[must_use]
     pub fn uv_index_now(&self) -> UvIndex {
-        UvIndex::from_erythemal_w_per_m2(self.accrual.effective_irradiance().w_per_m2())
+        UvIndex::from_erythemal_w_per_m2(self.dose.effective_irradiance(&self.meter).w_per_m2())
     }
 
-    /// The day's erythemal exposure, in SED (100 J/m²).
+    /// The day's erythemal exposure (gap charges included), in SED (100 J/m²).
     #[must_use]
     pub fn day_sed(&self) -> f64 {
-        fixed_to_exposure(self.day).j_per_m2() / SED_J_PER_M2
+        let units = self.dose.total_units().wrapping_sub(self.day_start);
+        self.dose.to_exposure(units).j_per_m2() / SED_J_PER_M2
     }
 
     /// Start a new day.
     pub fn reset_day(&mut self) {
-        self.day = 0;
+        self.day_start = self.dose.total_units();
     }
 }
 

@@ -151,6 +151,7 @@ pub mod reading;
 pub mod record;
 pub mod session;
 pub mod spectrum;
+pub mod time;
 pub mod weighting;
 
 #[cfg(test)]

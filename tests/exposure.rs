@@ -26,8 +26,8 @@ fn s254() -> WeightFactor {
 
 fn icnirp_config() -> ExposureConfig<3> {
     ExposureConfig {
-        window_ticks: 8 * HOUR,
-        bucket_ticks: MIN,
+        window_ticks: u64::from(8 * HOUR),
+        bucket_ticks: u64::from(MIN),
         // ICNIRP 2004: H_eff ≤ 30 J/m² in any 8 h.
         limit: RadiantExposure::from_j_per_m2(30.0),
         levels: [0.5, 0.8, 1.0],
@@ -132,11 +132,11 @@ fn window_subtracts_expired_dose_exactly() {
         m.on_reading(&reading(10, k * S)).unwrap();
     }
     let h = m.window_exposure().j_per_m2();
-    // Exact trapezoid of a constant: 0.005 W/m² eff × 3600 s = 18 J/m²; each of ~61 buckets
-    // rounds up by less than 1 µJ/m².
-    assert!((18.0..18.0 + 61e-6).contains(&h), "{h}");
+    // Exact trapezoid of a constant: 0.005 W/m² eff × 3600 s = 18 J/m², with nothing rounded
+    // when the 60 buckets close (before the common unit, each closing rounded up to 1 µJ/m²).
+    assert!((h - 18.0).abs() <= 18.0 * 1e-12, "{h}");
     let shift = m.shift_totals().exposure.j_per_m2();
-    assert!((shift - 18.0).abs() < 1e-6, "{shift}");
+    assert!((shift - 18.0).abs() <= 18.0 * 1e-12, "{shift}");
     // 0.5 × 10 codes × 1 s of the fall to dark, effective: 0.0025 J/m² more.
     let shift = shift + 0.0025;
     // The light goes off (one dark reading), then the logger sleeps and only ticks the
@@ -177,23 +177,117 @@ fn gaps_are_charged_with_a_conservative_bound() {
 }
 
 #[test]
-fn clock_backwards_and_bad_codes_lose_nothing() {
+fn clock_backwards_restarts_the_run_and_never_blocks() {
     let (mut m, _) = monitor();
     for k in 0..=10 {
         m.on_reading(&reading(100, k * S)).unwrap();
     }
-    let before = m.window_exposure();
+    // 0.1 W/m² × 0.5 (S(254)) × 10 s.
+    let before = m.window_exposure().j_per_m2();
+    assert!((before - 0.5).abs() < 1e-12);
     let c = m.on_reading(&reading(100, 5 * S)).unwrap();
     assert_eq!(c.ignored, Some(ReadingIssue::Backwards));
-    let c = m.on_reading(&reading(4095, 11 * S)).unwrap();
-    assert!(matches!(
-        c.ignored,
-        Some(ReadingIssue::Code(CodeFault::SaturatedHigh))
-    ));
-    assert_eq!(m.window_exposure(), before);
-    // The next good reading bridges the interval from the last good one.
-    m.on_reading(&reading(100, 12 * S)).unwrap();
-    assert!((m.window_exposure().j_per_m2() - 0.6).abs() < 1e-5);
+    assert_eq!(m.window_exposure().j_per_m2(), before);
+    // The run restarted at 5 s: the next reading integrates 5 s → 6 s (a re-anchored clock
+    // errs towards counting more), and so does every later one — nothing is blocked.
+    for k in 6..=8 {
+        let c = m.on_reading(&reading(100, k * S)).unwrap();
+        assert_eq!(c.ignored, None);
+    }
+    assert!((m.window_exposure().j_per_m2() - (before + 3.0 * 0.05)).abs() < 1e-12);
+}
+
+#[test]
+fn a_saturated_reading_counts_at_full_scale_never_bridged() {
+    // Bridging a top-rail reading from its neighbours under-counts a light above the range;
+    // the monitor counts it at the range's full scale (4095 codes = 4.095 W/m²), the least
+    // the light can have been.
+    let (mut m, _) = monitor();
+    m.on_reading(&reading(100, 0)).unwrap();
+    let c = m.on_reading(&reading(4095, S)).unwrap();
+    assert!(c.saturated);
+    assert_eq!(c.ignored, None);
+    m.on_reading(&reading(100, 2 * S)).unwrap();
+    // Trapezoids 0→1 s and 1→2 s: (0.1 + 4.095)/2 × 2 s × 0.5.
+    let expected = (0.1 + 4.095) / 2.0 * 2.0 * 0.5;
+    assert!((m.window_exposure().j_per_m2() - expected).abs() < 1e-12);
+}
+
+#[test]
+fn a_forward_jump_is_charged_as_a_gap_and_later_readings_count() {
+    // Before the shared time base, a forward step of 2³¹ ticks or more read as "backwards"
+    // and every later reading was refused until the counter passed the old value.
+    let (mut m, _) = monitor();
+    m.on_reading(&reading(100, 0)).unwrap();
+    let jump = (1u32 << 31) + 1000;
+    let c = m.on_reading(&reading(100, jump)).unwrap();
+    let gap = c.gap.expect("a jump is a gap");
+    assert_eq!(gap.ticks, jump);
+    let c = m.on_reading(&reading(100, jump + S)).unwrap();
+    assert_eq!(c.ignored, None);
+    assert_eq!(m.shift_totals().gaps, 1);
+}
+
+#[test]
+fn an_eight_hour_window_at_ten_megahertz() {
+    // A u32 window could not hold 8 h above 149 kHz; the 64-bit clock holds 2.88e11 ticks.
+    let fe = FrontEnd::new(
+        AdcSpec {
+            bits: 12,
+            reference: Voltage::from_v(4.096),
+            pga_gain: 1.0,
+            coding: Coding::Unipolar,
+            saturation_margin: 0,
+        },
+        &[AmplifierRange {
+            gain: Transimpedance::from_kohm(100.0),
+            dark_offset: 0,
+        }],
+    )
+    .unwrap();
+    let meter = Meter::new(
+        fe,
+        Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e5)),
+        Band::Line(Wavelength::from_nm(254.0)),
+        TickRate::from_hz(10_000_000).unwrap(),
+        None,
+    )
+    .unwrap();
+    let hz = 10_000_000u64;
+    let config = ExposureConfig {
+        window_ticks: 8 * 3600 * hz,
+        bucket_ticks: 600 * hz,
+        limit: RadiantExposure::from_j_per_m2(1e4),
+        levels: [0.5, 0.8, 1.0],
+        hysteresis: 0.05,
+        max_gap_ticks: 100_000_000, // 10 s
+    };
+    let pins = [SimPin::new(), SimPin::new(), SimPin::new()];
+    let mut m =
+        ExposureMonitor::<49, 3, SimPin>::new(meter, WeightFactor::UNWEIGHTED, config, pins)
+            .unwrap();
+    // 1 W/m² (1000 codes) sampled every 5 s for 9 h: the tick wraps 27 times.
+    let step = 50_000_000u32;
+    let mut t = 0u32;
+    for _ in 0..=(9 * 3600 / 5) {
+        let c = m
+            .on_reading(&Reading {
+                code: 1000,
+                range: RangeIndex(0),
+                at: Ticks(t),
+            })
+            .unwrap();
+        assert_eq!(c.ignored, None);
+        assert_eq!(c.gap, None);
+        t = t.wrapping_add(step);
+    }
+    // The window holds between 8 h and 8 h 10 min of 1 W/m²: 28 800 to 29 400 J/m².
+    let h = m.window_exposure().j_per_m2();
+    assert!((28_800.0..=29_400.0).contains(&h), "{h}");
+    // Whole intervals only: a multiple of 5 J/m².
+    assert!((h / 5.0 - (h / 5.0).round()).abs() < 1e-9, "{h}");
+    // 9 h in all, never clipped (a u32 bucket of 1 µJ/m² clipped at 4 295 J/m²).
+    assert!((m.shift_totals().exposure.j_per_m2() - 32_400.0).abs() < 1e-8);
 }
 
 #[test]
@@ -229,7 +323,7 @@ fn configuration_errors_are_named() {
         }
     };
     assert_eq!(
-        bad(&|c| c.window_ticks = 8 * HOUR + 1),
+        bad(&|c| c.window_ticks = u64::from(8 * HOUR + 1)),
         ExposureConfigError::WindowNotWholeBuckets
     );
     assert_eq!(
@@ -237,7 +331,7 @@ fn configuration_errors_are_named() {
         ExposureConfigError::WindowNotWholeBuckets
     );
     assert_eq!(
-        bad(&|c| c.bucket_ticks = MIN / 2),
+        bad(&|c| c.bucket_ticks = u64::from(MIN / 2)),
         ExposureConfigError::WindowTooLong
     );
     assert_eq!(
@@ -274,7 +368,8 @@ fn uv_index_and_sed() {
     // A band whose erythemal weight factor is 1 (all light in 250–298 nm, s_er = 1, ISO/CIE
     // 17166), so the erythemal irradiance equals the reading.
     let er = WeightFactor::UNWEIGHTED;
-    let mut solar = SolarMonitor::<11>::new(&meter(), er, 10 * MIN, MIN, 10 * S).unwrap();
+    let mut solar =
+        SolarMonitor::<11>::new(meter(), er, u64::from(10 * MIN), u64::from(MIN), 10 * S).unwrap();
     // E_er = 0.2 W/m² → UVI 8.0 (WHO 2002 example), category "very high" (8–10, WHO 2002).
     for k in 0..=(11 * 60) {
         solar.accept(200, RangeIndex(0), Ticks(k * S)).unwrap();
@@ -289,7 +384,8 @@ fn uv_index_and_sed() {
 
     // E_er = 75 mW/m² → UVI 3 (SMHI units page), "moderate"; 1 h at UVI 1 (25 mW/m²) is
     // 90 J/m² = 0.9 SED (McKenzie, "scaling UV damage"; 1 SED = 100 J/m², ISO/CIE 17166).
-    let mut solar = SolarMonitor::<11>::new(&meter(), er, 10 * MIN, MIN, 10 * S).unwrap();
+    let mut solar =
+        SolarMonitor::<11>::new(meter(), er, u64::from(10 * MIN), u64::from(MIN), 10 * S).unwrap();
     for k in 0..=3600 {
         solar.accept(75, RangeIndex(0), Ticks(k * S)).unwrap();
     }
@@ -367,8 +463,10 @@ fn sampling_plan_speeds_up_on_change() {
 
 #[test]
 fn rolling_window_ram_at_one_minute_buckets_over_8_h() {
-    // 480 complete buckets + the current one, 4 bytes each, plus bookkeeping.
+    // 480 complete buckets + the current one, one 16-byte mark each, plus bookkeeping.
     let size = core::mem::size_of::<RollingWindow<481>>();
     println!("RollingWindow<481> (8 h in 1-min buckets): {size} bytes");
-    assert!(size <= 481 * 4 + 64, "{size}");
+    assert!(size <= 481 * 16 + 64, "{size}");
+    // 8 h in 10-min buckets.
+    assert!(core::mem::size_of::<RollingWindow<49>>() <= 49 * 16 + 64);
 }

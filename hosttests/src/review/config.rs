@@ -596,9 +596,10 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
                     ExposureConfigError::MaxGap => {
                         (s.max_gap_ticks.span(), "session.max_gap_ticks")
                     }
-                    ExposureConfigError::Scale | ExposureConfigError::AveragingPeriod => {
-                        (xe.weight_factor.span(), "exposure.weight_factor")
-                    }
+                    ExposureConfigError::Scale
+                    | ExposureConfigError::RangeSpread
+                    | ExposureConfigError::AveragingPeriod
+                    | _ => (xe.weight_factor.span(), "exposure.weight_factor"),
                 };
                 let mut msg = e.to_string();
                 if e == ExposureConfigError::WindowTooLong {

@@ -3,7 +3,6 @@
 //! Every number comes from the library's own configuration objects (`FrontEnd`, `Meter`,
 //! `BandFactors`, `to_exposure`), i.e. the constants firmware multiplies by.
 
-use photon_ledger::exposure::QUANTUM_J_PER_M2;
 use photon_ledger::prelude::*;
 use photon_ledger::quantity::si;
 use photon_ledger::session::to_exposure;
@@ -208,11 +207,10 @@ pub fn factors(cfg: &ReviewConfig) -> Vec<Factor> {
             v.push(f(
                 "exposure",
                 &format!(
-                    "level {} raises at (rounded down to {} J/m² quanta)",
+                    "level {} raises at (rounded down to the common integer unit, < 1e-12 relative)",
                     i + 1,
-                    QUANTUM_J_PER_M2
                 ),
-                (lv * l / QUANTUM_J_PER_M2).floor() * QUANTUM_J_PER_M2,
+                lv * l,
                 "J/m²",
             ));
         }

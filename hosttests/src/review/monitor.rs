@@ -51,8 +51,8 @@ fn build<const L: usize>(meter: &Meter, s: &ExposureSetup) -> Result<M<L>, Expos
         *slot = *v;
     }
     let config = ExposureConfig {
-        window_ticks: s.window_ticks,
-        bucket_ticks: s.bucket_ticks,
+        window_ticks: u64::from(s.window_ticks),
+        bucket_ticks: u64::from(s.bucket_ticks),
         limit: s.limit,
         levels,
         hysteresis: s.hysteresis,
@@ -130,10 +130,10 @@ pub fn new_solar(
     max_gap_ticks: u32,
 ) -> Result<SolarMonitor<BUCKET_CAPACITY>, ExposureConfigError> {
     SolarMonitor::new(
-        meter,
+        meter.clone(),
         s.erythema,
-        s.averaging_ticks,
-        s.bucket_ticks,
+        u64::from(s.averaging_ticks),
+        u64::from(s.bucket_ticks),
         max_gap_ticks,
     )
 }
