@@ -112,7 +112,7 @@ use core::ops::{BitOr, BitOrAssign};
 
 use embedded_hal::digital::{InputPin, OutputPin};
 
-use crate::dose::{Integrator, Rounding, SampleError, ThresholdId};
+use crate::dose::{Crossed, Integrator, Rounding, SampleError, ThresholdId};
 use crate::frontend::{CodeFault, MAX_RANGES};
 use crate::irradiance::Meter;
 use crate::quantity::{Irradiance, RadiantExposure, Seconds};
@@ -811,6 +811,9 @@ struct PartState {
     paused_j: f64,
     stop: Option<(Ticks, StopReason)>,
     stop_j: f64,
+    /// A dark start not yet placed: the zero reading at this tick goes in before the part's
+    /// first reading (unless that reading is at the same tick, which then counts itself).
+    dark_from: Option<Ticks>,
     interlock_closed: bool,
     first_fault: Option<CuringFault>,
     fault_kinds: u16,
@@ -839,6 +842,7 @@ impl PartState {
             paused_j: 0.0,
             stop: None,
             stop_j: 0.0,
+            dark_from: None,
             interlock_closed: true,
             first_fault: None,
             fault_kinds: 0,
@@ -927,11 +931,12 @@ pub struct CuringController<EN, AL, IL> {
     integrator: Integrator,
     target_id: ThresholdId,
     over_id: ThresholdId,
+    /// The thresholds crossed after the last integrated reading (from the integrator's step).
+    crossed: Crossed,
     /// Effective lag in 1/256 ticks.
     lag_q8: i64,
     lag_effective_s: f64,
     off_deadline: u32,
-    w_per_code: [f64; MAX_RANGES],
     min_net: [i32; MAX_RANGES],
     max_net: [i32; MAX_RANGES],
     phase: CuringPhase,
@@ -971,17 +976,10 @@ where
         let over_id = template
             .add_threshold(config.target + config.tolerance, Rounding::NotAfter)
             .map_err(|_| CuringError::Config(CuringConfigError::Tolerance))?;
-        let mut w_per_code = [0.0; MAX_RANGES];
         let mut min_net = [i32::MIN; MAX_RANGES];
         let mut max_net = [i32::MAX; MAX_RANGES];
-        for (i, ((w, lo), hi)) in (0u8..).zip(
-            w_per_code
-                .iter_mut()
-                .zip(min_net.iter_mut())
-                .zip(max_net.iter_mut()),
-        ) {
+        for (i, (lo, hi)) in (0u8..).zip(min_net.iter_mut().zip(max_net.iter_mut())) {
             let k = meter.irradiance(1, RangeIndex(i)).w_per_m2();
-            *w = k;
             if k > 0.0 {
                 if let Some(m) = config.window.minimum {
                     // Rounded up: a net code at or above this is certainly ≥ the minimum.
@@ -1005,7 +1003,7 @@ where
             integrator,
             target_id,
             over_id,
-            w_per_code,
+            crossed: Crossed(0),
             min_net,
             max_net,
             phase: CuringPhase::Idle,
@@ -1022,9 +1020,11 @@ where
         Ok(c)
     }
 
-    /// Start a part: the interlock must read closed and no alarm may be latched. The enable
-    /// output goes active and the dose restarts from zero at `now` (the part is assumed dark
-    /// until then).
+    /// Start a part from dark: the interlock must read closed and no alarm may be latched.
+    /// The enable output goes active and the dose restarts from zero at `now`: the part is
+    /// taken as dark until `now` (a closed shutter), so the first interval is a trapezoid
+    /// from zero at `now` to the part's first reading. A first reading taken at `now` itself
+    /// counts as the start of the run instead (the light was already on at `now`).
     ///
     /// Returns [`Events::STARTED`] (with [`Events::LAMP_LOW`] when lamp maintenance is due).
     ///
@@ -1034,6 +1034,25 @@ where
     /// started); [`CuringError::Output`] if the enable output cannot be written (the part is
     /// then faulted).
     pub fn start(&mut self, part: PartId, now: Ticks) -> Result<Events, CuringError<EO, EI>> {
+        self.start_part(part, now, true)
+    }
+
+    /// Start a part whose light is already on (a lamp that stays lit between parts, a
+    /// conveyor): the dose counts from the part's first reading, at its own tick, exactly as
+    /// [`Session`](crate::session::Session) counts. Otherwise as [`start`](Self::start).
+    ///
+    /// # Errors
+    /// As [`start`](Self::start).
+    pub fn start_lit(&mut self, part: PartId, now: Ticks) -> Result<Events, CuringError<EO, EI>> {
+        self.start_part(part, now, false)
+    }
+
+    fn start_part(
+        &mut self,
+        part: PartId,
+        now: Ticks,
+        dark: bool,
+    ) -> Result<Events, CuringError<EO, EI>> {
         if self.part.is_some() {
             return Err(CuringError::Refused(Refusal::PartActive));
         }
@@ -1046,10 +1065,10 @@ where
         }
         self.pending = Events::NONE;
         self.integrator = self.template.clone();
-        // The part is dark at the start command: the first interval is a trapezoid from zero.
-        // A fresh integrator accepts any first sample in a known range.
-        let _ = self.integrator.accept(0, RangeIndex(0), now);
-        self.part = Some(PartState::new(part, now));
+        self.crossed = Crossed(0);
+        let mut state = PartState::new(part, now);
+        state.dark_from = dark.then_some(now);
+        self.part = Some(state);
         self.phase = CuringPhase::Exposing;
         let mut ev = Events::STARTED;
         if self.lamp_trend().maintenance_due {
@@ -1408,6 +1427,16 @@ where
         }
     }
 
+    /// Take a new dark offset for range `r` (a dark capture between parts). Applied only
+    /// while no part is active; returns `false` and changes nothing otherwise, or if the
+    /// range does not exist or the offset is outside the code range.
+    pub fn set_dark_offset(&mut self, r: RangeIndex, dark_offset: i32) -> bool {
+        if self.part.is_some() {
+            return false;
+        }
+        self.meter.front_end_mut().set_dark_offset(r, dark_offset)
+    }
+
     /// Give the pins back. The caller is responsible for their state afterwards.
     pub fn release(self) -> (EN, AL, IL) {
         (self.enable, self.alarm, self.interlock)
@@ -1441,12 +1470,20 @@ where
         };
         if let Some(p) = self.part.as_mut() {
             p.unusable_run = 0;
+            if let Some(t0) = p.dark_from.take() {
+                if t0 != at {
+                    // Dark until the start tick: a zero in the reading's own range (no range
+                    // split). A fresh integrator accepts any first sample in a known range.
+                    let _ = self.integrator.accept(0, reading.range, t0);
+                }
+            }
         }
         match self.integrator.accept(net, reading.range, at) {
-            Ok(_) => {
+            Ok(step) => {
                 if let Some(p) = self.part.as_mut() {
                     p.end = at;
                 }
+                self.crossed = step.crossed;
                 Ok((SampleUse::Integrated, Some(net)))
             }
             Err(SampleError::Repeated) => Ok((SampleUse::Repeated, None)),
@@ -1494,7 +1531,8 @@ where
         range: RangeIndex,
         at: Ticks,
     ) -> Result<(), CuringError<EO, EI>> {
-        let crossed = self.integrator.crossed();
+        // The integrator's own step result: no rescan of the thresholds.
+        let crossed = self.crossed;
         if crossed.contains(self.target_id) && !self.seen(Events::TARGET_REACHED) {
             self.raise(Events::TARGET_REACHED);
         }
@@ -1668,7 +1706,9 @@ where
         let limit =
             (self.config.light_off.fraction * e_ref).max(self.config.light_off.floor.w_per_m2());
         let mut limit_net = [i32::MAX; MAX_RANGES];
-        for (slot, k) in limit_net.iter_mut().zip(self.w_per_code.iter()) {
+        for (i, slot) in (0u8..).zip(limit_net.iter_mut()) {
+            // The meter holds the per-range factor; nothing else keeps a copy.
+            let k = &self.meter.irradiance(1, RangeIndex(i)).w_per_m2();
             if *k > 0.0 {
                 *slot = libm::floor(limit / k) as i32;
             }
@@ -1716,9 +1756,21 @@ where
             self.phase = CuringPhase::Faulted(reason);
         }
         self.alarm_latched = true;
-        let en = self.write_enable(false);
-        let al = self.write_alarm(true);
-        en.and(al)
+        // The shared safe-state sequence (crate::control): enable inactive first, then the
+        // alarm, with one retry of the enable on any error.
+        let r = crate::control::safe_state(
+            &mut self.enable,
+            self.config.enable_level,
+            &mut self.alarm,
+            self.config.alarm_level,
+        );
+        if r.is_err() {
+            self.mark_output_fault();
+        }
+        r.map_err(|e| match e {
+            crate::control::SafeStateError::Enable(e)
+            | crate::control::SafeStateError::Alarm(e) => CuringError::Output(e),
+        })
     }
 
     fn build_record(&self, p: &PartState, now: Ticks) -> PartRecord {
@@ -1840,11 +1892,7 @@ where
 }
 
 fn set<P: OutputPin>(pin: &mut P, level: ActiveLevel, active: bool) -> Result<(), P::Error> {
-    if matches!(level, ActiveLevel::High) == active {
-        pin.set_high()
-    } else {
-        pin.set_low()
-    }
+    crate::control::drive(pin, level, active)
 }
 
 struct Checked {
@@ -2228,7 +2276,7 @@ mod tests {
         assert!(r.enable.high.get());
         // Dose at reading t (ticks) at 1000 W/m² is t − 5 J/m² (trapezoid from the dark start,
         // computed); the tail is 1000 W/m² × 0.2 s = 200 J/m². t − 5 + 200 ≥ 10 000 first
-        // holds (strictly, with the one-unit safe rounding) at the reading t = 9810.
+        // holds at the reading t = 9810 (readings every 10 ticks).
         let t = run_until_stop(&mut r.c, 1000);
         assert_eq!(t, 9810);
         assert_eq!(r.c.phase(), CuringPhase::Stopping);
@@ -2302,28 +2350,67 @@ mod tests {
         for t in (10..=100).step_by(10) {
             feed(&mut r.c, t, 1000);
         }
-        // At t = 100 the dose is 95 J/m²; the stop is due when 95 + (T − 100) + 200 > 10 000,
-        // i.e. T = 9806 (computed; the strict inequality is the one-unit safe rounding).
-        assert_eq!(r.c.stop_due(), Some(Ticks(9806)));
+        // At t = 100 the dose is 95 J/m²; the stop is due when 95 + (T − 100) + 200 ≥ 10 000,
+        // i.e. T = 9805 (computed; a tie is due at the tie).
+        assert_eq!(r.c.stop_due(), Some(Ticks(9805)));
         assert_eq!(
-            r.c.on_stop_timer(Ticks(9805)).unwrap(),
-            TimerOutcome::Rearm(Ticks(9806))
+            r.c.on_stop_timer(Ticks(9804)).unwrap(),
+            TimerOutcome::Rearm(Ticks(9805))
         );
         assert_eq!(r.c.phase(), CuringPhase::Exposing);
         assert_eq!(
-            r.c.on_stop_timer(Ticks(9806)).unwrap(),
+            r.c.on_stop_timer(Ticks(9805)).unwrap(),
             TimerOutcome::Stopped
         );
         assert_eq!(r.c.phase(), CuringPhase::Stopping);
         assert!(!r.enable.high.get());
         assert_eq!(r.c.stop_due(), None);
         assert_eq!(
-            r.c.on_stop_timer(Ticks(9807)).unwrap(),
+            r.c.on_stop_timer(Ticks(9806)).unwrap(),
             TimerOutcome::NotExposing
         );
         let rec = r.c.finish(Ticks(9810)).unwrap();
         assert_eq!(rec.stop_reason, StopReason::TargetTimer);
-        assert_eq!(rec.stop, Ticks(9806));
+        assert_eq!(rec.stop, Ticks(9805));
+    }
+
+    #[test]
+    fn a_part_started_at_the_tick_of_a_lit_sample_loses_nothing() {
+        // Before: start() fed a zero reading at the start tick, so a lit reading at that same
+        // tick was a repeat (ignored) and the first interval lost E·Δt/2.
+        let mut r = rig(config());
+        r.c.start(PartId(4), Ticks(1000)).unwrap();
+        let u = feed(&mut r.c, 1000, 1000);
+        assert_eq!(u.sample, SampleUse::Integrated);
+        feed(&mut r.c, 1010, 1000);
+        // 1000 W/m² for 10 ms, exactly.
+        assert!((r.c.delivered().j_per_m2() - 10.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn a_lit_start_counts_as_the_session_does_and_stops_on_the_exact_sample() {
+        // With the light already on, the part counts from its first reading (as Session
+        // does): at 1000 W/m² sampled every 10 ticks from t = 0, the dose at reading t is
+        // exactly t J/m², so without anticipation the stop is the reading at t = 10 000
+        // (10 000 J/m², a tie), not one sample later.
+        let mut cfg = config();
+        cfg.stop_policy = StopPolicy::AtTarget;
+        let mut r = rig(cfg);
+        r.c.start_lit(PartId(5), Ticks(0)).unwrap();
+        let mut t = 0;
+        feed(&mut r.c, 0, 1000);
+        while r.c.phase() == CuringPhase::Exposing {
+            t += 10;
+            feed(&mut r.c, t, 1000);
+            assert!(t < 20_000, "never stopped");
+        }
+        assert_eq!(t, 10_000);
+        assert!((r.c.delivered().j_per_m2() - 10_000.0).abs() < 1e-9);
+        // A dark start on the same stream adds the ramp from zero at the start tick.
+        let mut r = rig(config());
+        r.c.start(PartId(6), Ticks(0)).unwrap();
+        feed(&mut r.c, 10, 1000);
+        assert!((r.c.delivered().j_per_m2() - 5.0).abs() < 1e-12);
     }
 
     #[test]

@@ -195,7 +195,7 @@ impl CommonScale {
             return Err(ExposureConfigError::RangeSpread);
         }
         let unit = libm::ldexp(1.0, e_max.saturating_sub(63));
-        if !(unit >= f64::MIN_POSITIVE) {
+        if unit.is_nan() || unit < f64::MIN_POSITIVE {
             return Err(ExposureConfigError::Scale);
         }
         let mut weight = [0u64; MAX_RANGES];
@@ -228,11 +228,22 @@ impl CommonScale {
 
     /// A level in common units, rounded down (a limit trips early); `None` if not finite,
     /// ≤ 0 or above 2¹²⁶ units.
+    ///
+    /// The per-range scales come out of a chain of `f64` products, each rounded; a dose
+    /// exactly at the level in decimal terms can land a few ulps either side of it. The level
+    /// is lowered by [`LEVEL_SLACK`] (a relative 16 ulps) so such a tie trips — the safe
+    /// direction for a limit.
     fn level_units(&self, level: RadiantExposure) -> Option<u128> {
         let x = level.j_per_m2() / self.unit_j_per_m2;
-        (x.is_finite() && x >= 0.0 && x < TWO_POW_126).then(|| libm::floor(x) as u128)
+        (0.0..TWO_POW_126)
+            .contains(&x)
+            .then(|| libm::floor(x * (1.0 - LEVEL_SLACK)) as u128)
     }
 }
+
+/// Relative lowering of a level before it is rounded down to the common unit: 16 ulps, so a
+/// dose at the level within the `f64` rounding of the configuration trips.
+pub const LEVEL_SLACK: f64 = 16.0 * f64::EPSILON;
 
 const TWO_POW_126: f64 = 85_070_591_730_234_615_865_843_651_857_942_052_864.0;
 

@@ -138,6 +138,7 @@
 pub mod autorange;
 pub mod band;
 pub mod calibration;
+pub mod control;
 pub mod curing;
 pub mod dose;
 pub mod exposure;

@@ -33,7 +33,7 @@ use crate::irradiance::Meter;
 use crate::quantity::{
     Irradiance, PhotonAmount, PhotonExposure, PhotonIrradiance, RadiantExposure, Seconds,
 };
-use crate::reading::{Reading, Ticks};
+use crate::reading::{RangeIndex, Reading, Ticks};
 
 /// A dose in any of the units the meter supports.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -47,16 +47,7 @@ pub enum DoseAmount {
     Photons(PhotonAmount),
 }
 
-/// Which logic level means "active" on an output pin.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub enum ActiveLevel {
-    /// High is active. Default.
-    #[default]
-    High,
-    /// Low is active.
-    Low,
-}
+pub use crate::control::ActiveLevel;
 
 /// Session configuration. Validated once by [`Session::new`].
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -208,8 +199,12 @@ impl<E: core::fmt::Debug> core::error::Error for PinError<E> {}
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Progress {
-    /// Radiant exposure received.
+    /// Radiant exposure received (measured).
     pub exposure: RadiantExposure,
+    /// Conservative charge for gaps in the readings (max(before, after) × gap), not part of
+    /// `exposure`: at most this much more may have arrived unmeasured. See
+    /// [`crate::time`].
+    pub gap_charge: RadiantExposure,
     /// Photon exposure received.
     pub photon_exposure: PhotonExposure,
     /// Photons received by the illuminated area, if configured.
@@ -385,6 +380,17 @@ where
         true
     }
 
+    /// Take a new dark offset for range `r` (after a dark capture). Applied only while the
+    /// session is not exposing (before [`Session::start`] or after it ended), so a run is
+    /// never corrected with two offsets; returns `false` and changes nothing otherwise, or if
+    /// the range does not exist or the offset is outside the code range.
+    pub fn set_dark_offset(&mut self, r: RangeIndex, dark_offset: i32) -> bool {
+        if self.phase == Phase::Exposing || self.phase == Phase::TargetMet {
+            return false;
+        }
+        self.meter.front_end_mut().set_dark_offset(r, dark_offset)
+    }
+
     /// The validated configuration.
     #[must_use]
     pub const fn config(&self) -> &SessionConfig {
@@ -433,6 +439,7 @@ where
         };
         Progress {
             exposure,
+            gap_charge: self.integrator.gap_charge(),
             photon_exposure: self.meter.photon_exposure(exposure),
             photons: self.meter.photon_amount(exposure),
             target: self.target,
@@ -451,10 +458,17 @@ where
 
     fn enter_fault(&mut self, reason: Fault) -> Result<(), PinError<E>> {
         self.phase = Phase::Faulted(reason);
-        // Drive enable inactive first; attempt the alarm even if that failed.
-        let en = self.write_enable(false);
-        let al = self.write_alarm(true);
-        en.and(al)
+        // The shared safe-state sequence: enable inactive first, alarm even if that failed.
+        let r = crate::control::safe_state(
+            &mut self.enable,
+            self.config.enable_level,
+            &mut self.alarm,
+            self.config.alarm_level,
+        );
+        r.map_err(|e| match e {
+            crate::control::SafeStateError::Enable(e)
+            | crate::control::SafeStateError::Alarm(e) => PinError(e),
+        })
     }
 
     /// An output failed: fault, keeping an earlier fault reason if there is one.
@@ -489,12 +503,7 @@ fn set<P: OutputPin>(
     level: ActiveLevel,
     active: bool,
 ) -> Result<(), PinError<P::Error>> {
-    let high = matches!(level, ActiveLevel::High) == active;
-    if high {
-        pin.set_high().map_err(PinError)
-    } else {
-        pin.set_low().map_err(PinError)
-    }
+    crate::control::drive(pin, level, active).map_err(PinError)
 }
 
 /// Convert a dose in any unit to radiant exposure for this meter.

@@ -127,12 +127,12 @@ fn worked_example_1000_mj_per_cm2_at_100_mw_per_cm2_takes_10_s() {
         }
     }
     // The timer tick after the first reading: 10.000 s + 5 ms (the interval from the dark
-    // start is a trapezoid from zero: half of the first 10 ms reading is not counted) + 1
-    // tick (the stop target is rounded one integer unit up, so it never undershoots).
-    assert_eq!(stop_due, Some(Ticks(10_006)));
+    // start is a trapezoid from zero: half of the first 10 ms reading is not counted). The
+    // dose at 10.005 s is exactly the target, and a tie is due at the tie.
+    assert_eq!(stop_due, Some(Ticks(10_005)));
     assert_eq!(c.phase(), CuringPhase::Complete);
     let rec = c.finish(Ticks(10_020)).unwrap();
-    // Decided on readings: the first reading at or after 10.006 s is 10.01 s.
+    // Decided on readings: the first reading at or after 10.005 s is 10.01 s.
     assert_eq!(rec.stop, Ticks(10_010));
     assert_eq!(rec.stop_reason, StopReason::Target);
     // 10.01 s at 100 mW/cm² less the 0.5 mJ/cm² start half-interval, plus the 0.5 mJ/cm²
@@ -166,20 +166,20 @@ fn worked_example_on_the_timer_compare_stops_at_the_due_tick() {
     for k in 1..=1000u32 {
         c.on_reading(&reading(10 * k, 1000)).unwrap();
     }
-    // After the reading at 10.000 s the compare is due 6 ticks later (see above).
-    assert_eq!(c.stop_due(), Some(Ticks(10_006)));
+    // After the reading at 10.000 s the compare is due 5 ticks later (see above).
+    assert_eq!(c.stop_due(), Some(Ticks(10_005)));
+    assert_eq!(
+        c.on_stop_timer(Ticks(10_004)).unwrap(),
+        TimerOutcome::Rearm(Ticks(10_005))
+    );
     assert_eq!(
         c.on_stop_timer(Ticks(10_005)).unwrap(),
-        TimerOutcome::Rearm(Ticks(10_006))
-    );
-    assert_eq!(
-        c.on_stop_timer(Ticks(10_006)).unwrap(),
         TimerOutcome::Stopped
     );
-    // The light went off at 10.006 s; the next reading is dark.
+    // The light went off at 10.005 s; the next reading is dark.
     c.on_reading(&reading(10_010, 0)).unwrap();
     let rec = c.finish(Ticks(10_010)).unwrap();
-    assert_eq!(rec.stop, Ticks(10_006));
+    assert_eq!(rec.stop, Ticks(10_005));
     assert_eq!(rec.stop_reason, StopReason::TargetTimer);
     drop(c);
     en.done();

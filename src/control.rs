@@ -1,0 +1,164 @@
+//! Control: the one fault → safe state → pin sequence that every controller uses.
+//!
+//! The [`Session`](crate::session::Session), the
+//! [`CuringController`](crate::curing::CuringController) and the exposure monitors drive
+//! their outputs through this module, so "safe state" means the same thing everywhere:
+//!
+//! 1. the source-enable output is driven **inactive first**;
+//! 2. the alarm output is driven active, even if step 1 failed;
+//! 3. if any write failed, the enable output is written inactive once more (a transient bus
+//!    error on an I²C port expander), and the first error is returned.
+//!
+//! The pins may have different error types (a GPIO enable beside an expander alarm).
+
+use embedded_hal::digital::OutputPin;
+
+/// Which logic level means "active" on an output (or "closed" on an interlock input).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum ActiveLevel {
+    /// High is active. Default.
+    #[default]
+    High,
+    /// Low is active.
+    Low,
+}
+
+impl ActiveLevel {
+    /// Whether a pin read as `high` is at this active level.
+    #[must_use]
+    pub const fn is_active(self, high: bool) -> bool {
+        matches!(self, Self::High) == high
+    }
+}
+
+/// Drive `pin` active or inactive for its `level`.
+///
+/// # Errors
+/// The pin's own error.
+pub fn drive<P: OutputPin>(pin: &mut P, level: ActiveLevel, active: bool) -> Result<(), P::Error> {
+    if level.is_active(true) == active {
+        pin.set_high()
+    } else {
+        pin.set_low()
+    }
+}
+
+/// Which output failed while entering the safe state.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum SafeStateError<EN, AL> {
+    /// The enable output could not be driven inactive (it was retried once).
+    Enable(EN),
+    /// The alarm output could not be driven active.
+    Alarm(AL),
+}
+
+/// Enter the safe state: enable inactive first, then alarm active; see the
+/// [module documentation](self) for the order and the retry.
+///
+/// # Errors
+/// The first pin that failed.
+pub fn safe_state<EN: OutputPin, AL: OutputPin>(
+    enable: &mut EN,
+    enable_level: ActiveLevel,
+    alarm: &mut AL,
+    alarm_level: ActiveLevel,
+) -> Result<(), SafeStateError<EN::Error, AL::Error>> {
+    let en = drive(enable, enable_level, false);
+    let al = drive(alarm, alarm_level, true);
+    if en.is_err() || al.is_err() {
+        // Best effort: a transient error on an expander may clear on a second write.
+        let _ = drive(enable, enable_level, false);
+    }
+    en.map_err(SafeStateError::Enable)?;
+    al.map_err(SafeStateError::Alarm)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use core::cell::Cell;
+    use embedded_hal::digital::{ErrorKind, ErrorType};
+
+    /// A pin that records its level and fails its first `fail` writes.
+    struct P<'a> {
+        high: &'a Cell<bool>,
+        fail: &'a Cell<u8>,
+        writes: &'a Cell<u8>,
+    }
+    impl ErrorType for P<'_> {
+        type Error = ErrorKind;
+    }
+    impl OutputPin for P<'_> {
+        fn set_low(&mut self) -> Result<(), ErrorKind> {
+            self.write(false)
+        }
+        fn set_high(&mut self) -> Result<(), ErrorKind> {
+            self.write(true)
+        }
+    }
+    impl P<'_> {
+        fn write(&mut self, high: bool) -> Result<(), ErrorKind> {
+            self.writes.set(self.writes.get() + 1);
+            if self.fail.get() > 0 {
+                self.fail.set(self.fail.get() - 1);
+                return Err(ErrorKind::Other);
+            }
+            self.high.set(high);
+            Ok(())
+        }
+    }
+
+    #[test]
+    fn enable_goes_inactive_and_alarm_active_at_any_level() {
+        for (el, al) in [
+            (ActiveLevel::High, ActiveLevel::High),
+            (ActiveLevel::Low, ActiveLevel::High),
+            (ActiveLevel::High, ActiveLevel::Low),
+        ] {
+            let (eh, ah) = (
+                Cell::new(el.is_active(true)),
+                Cell::new(!al.is_active(true)),
+            );
+            let (z, w1, w2) = (Cell::new(0), Cell::new(0), Cell::new(0));
+            let mut e = P {
+                high: &eh,
+                fail: &z,
+                writes: &w1,
+            };
+            let z2 = Cell::new(0);
+            let mut a = P {
+                high: &ah,
+                fail: &z2,
+                writes: &w2,
+            };
+            safe_state(&mut e, el, &mut a, al).unwrap();
+            assert!(!el.is_active(eh.get()), "enable still active");
+            assert!(al.is_active(ah.get()), "alarm not active");
+            assert_eq!((w1.get(), w2.get()), (1, 1));
+        }
+    }
+
+    #[test]
+    fn a_transient_enable_error_is_retried_and_still_reported() {
+        let (eh, ah) = (Cell::new(true), Cell::new(false));
+        let (f1, f2, w1, w2) = (Cell::new(1), Cell::new(0), Cell::new(0), Cell::new(0));
+        let mut e = P {
+            high: &eh,
+            fail: &f1,
+            writes: &w1,
+        };
+        let mut a = P {
+            high: &ah,
+            fail: &f2,
+            writes: &w2,
+        };
+        let r = safe_state(&mut e, ActiveLevel::High, &mut a, ActiveLevel::High);
+        assert_eq!(r, Err(SafeStateError::Enable(ErrorKind::Other)));
+        // The retry succeeded: the enable is inactive, and the alarm was still raised.
+        assert!(!eh.get());
+        assert!(ah.get());
+        assert_eq!(w1.get(), 2);
+    }
+}
