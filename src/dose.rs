@@ -164,24 +164,29 @@ struct Threshold {
 /// The exact dose integrator. See the [module documentation](self).
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+// In declaration order, the per-sample fields first: a Cortex-M0 load reaches only 124 bytes
+// past its base register, and the cold per-range tables would push these beyond it.
+#[repr(C)]
 pub struct Integrator {
-    scale: [f64; MAX_RANGES],
-    closed: [i128; MAX_RANGES],
-    /// Conservative charges for gaps, per range, in the same units as `closed`.
-    gap: [i128; MAX_RANGES],
     segment: i64,
-    segment_range: RangeIndex,
+    band_low: i64,
+    band_high: i64,
     last: Option<LastSample>,
     max_gap: u32,
-    preload_j_per_m2: f64,
-    thresholds: heapless::Vec<Threshold, MAX_THRESHOLDS>,
+    segment_range: RangeIndex,
     /// [`Integrator::crossed`] as last computed; it stays the answer while
     /// `band_low <= segment < band_high` (every crossed limit ≤ `band_low`, every other limit
     /// ≥ `band_high`), so the per-sample path compares against two numbers, not every
     /// threshold. Refreshed whenever a limit or the threshold list changes.
     crossed_cache: Crossed,
-    band_low: i64,
-    band_high: i64,
+    /// Whether any gap was charged (so read-outs and limits skip the gap table otherwise).
+    has_gap: bool,
+    preload_j_per_m2: f64,
+    scale: [f64; MAX_RANGES],
+    closed: [i128; MAX_RANGES],
+    /// Conservative charges for gaps, per range, in the same units as `closed`.
+    gap: [i128; MAX_RANGES],
+    thresholds: heapless::Vec<Threshold, MAX_THRESHOLDS>,
 }
 
 impl Integrator {
@@ -199,6 +204,7 @@ impl Integrator {
             scale,
             closed: [0; MAX_RANGES],
             gap: [0; MAX_RANGES],
+            has_gap: false,
             segment: 0,
             segment_range: RangeIndex(0),
             last: None,
@@ -236,7 +242,7 @@ impl Integrator {
             rounding,
             limit: i64::MAX,
         };
-        t.limit = self.limit_for(&t);
+        t.limit = self.limit_for(&t, self.closed_j_per_m2(), self.gap_j_per_m2());
         self.thresholds.push(t).map_err(|_| level)?;
         self.refresh_crossed();
         Ok(ThresholdId(id))
@@ -503,6 +509,9 @@ impl Integrator {
     }
 
     fn gap_j_per_m2(&self) -> f64 {
+        if !self.has_gap {
+            return 0.0;
+        }
         let mut sum = 0.0;
         for (g, k) in self.gap.iter().zip(self.scale.iter()) {
             sum += *g as f64 * k;
@@ -522,6 +531,7 @@ impl Integrator {
             if let Some(g) = self.gap.get_mut(usize::from(end.range.0)) {
                 *g = g.saturating_add(units);
             }
+            self.has_gap = true;
             self.recompute_limits();
         }
     }
@@ -544,14 +554,16 @@ impl Integrator {
         self.segment_range = next;
     }
 
-    fn limit_for(&self, t: &Threshold) -> i64 {
+    /// The limit of `t` in units of the open segment, given the closed dose and the gap
+    /// charge (J/m², computed once by the caller for every threshold).
+    fn limit_for(&self, t: &Threshold, closed_j: f64, gap_j: f64) -> i64 {
         let k = self.scale_of(self.segment_range);
         if k <= 0.0 || !t.level_j_per_m2.is_finite() {
             return i64::MAX;
         }
         let base = match t.rounding {
-            Rounding::NotBefore => self.closed_j_per_m2(),
-            Rounding::NotAfter => self.closed_j_per_m2() + self.gap_j_per_m2(),
+            Rounding::NotBefore => closed_j,
+            Rounding::NotAfter => closed_j + gap_j,
         };
         let x = (t.level_j_per_m2 - base) / k;
         // The f64 rounding of the conversion, in units: a few ulps of the operands. A level
@@ -566,9 +578,11 @@ impl Integrator {
     }
 
     fn recompute_limits(&mut self) {
+        let closed_j = self.closed_j_per_m2();
+        let gap_j = self.gap_j_per_m2();
         for i in 0..self.thresholds.len() {
             if let Some(t) = self.thresholds.get(i).copied() {
-                let limit = self.limit_for(&t);
+                let limit = self.limit_for(&t, closed_j, gap_j);
                 if let Some(slot) = self.thresholds.get_mut(i) {
                     slot.limit = limit;
                 }

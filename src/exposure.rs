@@ -11,11 +11,16 @@
 //! - [`WeightedDose`] feeds each reading to the crate's one exact integral, a
 //!   [`dose::Integrator`](crate::dose::Integrator) (negative, below-dark codes count as zero,
 //!   which can only overestimate), and reads the integral out in one **common integer unit**
-//!   across amplifier ranges: range `r` weighs `w_r` units per integrator unit, with `w_r` an
-//!   integer of at least 2⁴⁰ (rounded up), so the weighted total carries a relative over-read
-//!   of at most 2⁻⁴⁰ (9·10⁻¹³) — and none at all when the ranges' scales lie within 2¹⁰ of each
-//!   other, where every `w_r` is exact. A meter whose ranges differ by more than 2²² in scale
-//!   is refused ([`ExposureConfigError::RangeSpread`]) rather than read with less precision.
+//!   across amplifier ranges: range `r` weighs `w_r` units per integrator unit, the unit being
+//!   a power of two. At 52 bits of precision (the finest range weighs ≥ 2⁵² units) every
+//!   `w_r` is exact — the `f64` factor's mantissa scaled by a power of two — and the figures
+//!   are the exact integral times the library's factors. When the ranges' scales differ by
+//!   more than 2¹⁰, or the limit and a full-scale window would not fit 128 bits, the
+//!   precision is lowered, never below 2⁴⁰ ([`MIN_PRECISION_BITS`]), with every `w_r`
+//!   rounded up: a relative over-read of at most 2⁻⁴⁰ (9·10⁻¹³), stated by
+//!   [`WeightedDose::precision_bits`]. A configuration that would need less is refused with a
+//!   named error ([`ExposureConfigError::RangeSpread`], [`ExposureConfigError::Limit`],
+//!   [`ExposureConfigError::WindowRange`]) rather than read with less precision.
 //!   A gap is charged by the integrator's shared policy ([`crate::time`]),
 //!   max(before, after) × gap, and reported beside the measured dose.
 //! - [`RollingWindow`] keeps marks of that running total at the bucket boundaries, on the
@@ -55,9 +60,12 @@ use crate::weighting::{UvIndex, UvIndexCategory, WeightedFactor, SED_J_PER_M2};
 /// of at most 2⁻⁴⁰ ≈ 9.1·10⁻¹³.
 pub const MIN_PRECISION_BITS: u32 = 40;
 
+/// Precision bits at which every range's weight is exact (an `f64` mantissa is 53 bits).
+pub const EXACT_BITS: u32 = 52;
+
 /// The largest ratio between the scales of two amplifier ranges that the common unit holds
-/// at [`MIN_PRECISION_BITS`]: 2²² (about 4.2·10⁶).
-pub const MAX_RANGE_SPREAD: f64 = (1u64 << (62 - MIN_PRECISION_BITS)) as f64;
+/// at [`MIN_PRECISION_BITS`]: about 2²¹ (2.1·10⁶).
+pub const MAX_RANGE_SPREAD: f64 = (1u64 << (61 - MIN_PRECISION_BITS)) as f64;
 
 /// Effective (weighted) irradiance ÷ radiant irradiance for the configured band and action
 /// spectrum; dimensionless. Valid: finite, > 0. 1.0 for an unweighted band quantity.
@@ -107,12 +115,17 @@ pub enum ExposureConfigError {
     /// A range's weighted scale (J/m² per integrator unit) is not finite and > 0, or lies
     /// outside the normal `f64` range.
     Scale,
-    /// The meter's ranges differ in scale by more than [`MAX_RANGE_SPREAD`] (2²²): the
+    /// The meter's ranges differ in scale by more than [`MAX_RANGE_SPREAD`] (about 2²¹): the
     /// common integer unit would hold the finest range with fewer than
     /// [`MIN_PRECISION_BITS`] bits.
     RangeSpread,
     /// The averaging period of the UV index is 0 or not whole buckets.
     AveragingPeriod,
+    /// A full-scale reading held over the window (plus one bucket and the longest gap the
+    /// tick can express, 2³² ticks) could exceed 2¹²⁷ common units, where the window's
+    /// running-total marks would no longer tell the window's content apart: shorten the
+    /// window or use a slower tick.
+    WindowRange,
 }
 
 impl core::fmt::Display for ExposureConfigError {
@@ -126,9 +139,12 @@ impl core::fmt::Display for ExposureConfigError {
             Self::MaxGap => "maximum gap must be 1 to 2^31-1 ticks",
             Self::Scale => "meter scale must be finite, > 0 and a normal f64",
             Self::RangeSpread => {
-                "amplifier ranges differ in scale by more than 2^22 (40-bit precision bound)"
+                "amplifier ranges differ in scale by more than 2^21 (40-bit precision bound)"
             }
             Self::AveragingPeriod => "averaging period must be whole, non-empty buckets",
+            Self::WindowRange => {
+                "full scale over the window could exceed 2^127 common units: shorten the window"
+            }
         })
     }
 }
@@ -166,10 +182,24 @@ struct CommonScale {
     weight: [u64; MAX_RANGES],
     /// Effective J/m² per common unit (a power of two).
     unit_j_per_m2: f64,
+    /// The finest range weighs at least 2^bits units (52: every weight exact).
+    bits: u32,
 }
 
 impl CommonScale {
+    /// The scale at the most precision the ranges allow (at most 52 bits, which holds every
+    /// range's `f64` factor exactly).
     fn new(meter: &Meter, factor: WeightFactor) -> Result<Self, ExposureConfigError> {
+        Self::with_precision(meter, factor, EXACT_BITS)
+    }
+
+    /// The scale with the finest range weighing at least 2^`bits` (lowered to what the range
+    /// spread allows below 2⁶³).
+    fn with_precision(
+        meter: &Meter,
+        factor: WeightFactor,
+        bits: u32,
+    ) -> Result<Self, ExposureConfigError> {
         let n = meter.front_end().range_count().min(MAX_RANGES);
         let mut k = [0.0f64; MAX_RANGES];
         let mut e_min = i32::MAX;
@@ -188,25 +218,41 @@ impl CommonScale {
         if n == 0 {
             return Err(ExposureConfigError::Scale);
         }
-        // The unit 2^(e_max − 63) puts the coarsest range below 2⁶³ units and the finest at
-        // 2^(62 − spread) or more.
+        // With the unit 2^(e_min − 1 − F) the finest range weighs ≥ 2^F units and the coarsest
+        // < 2^(spread + 1 + F), which must stay ≤ 2⁶³. F ≥ 52 makes every weight exact (a
+        // 53-bit mantissa scaled by a power of two).
         let spread = e_max.saturating_sub(e_min);
-        if spread > 62 - MIN_PRECISION_BITS as i32 {
+        let f = (bits.min(EXACT_BITS) as i32).min(62 - spread);
+        if f < MIN_PRECISION_BITS as i32 {
             return Err(ExposureConfigError::RangeSpread);
         }
-        let unit = libm::ldexp(1.0, e_max.saturating_sub(63));
+        let unit = libm::ldexp(1.0, e_min.saturating_sub(1).saturating_sub(f));
         if unit.is_nan() || unit < f64::MIN_POSITIVE {
             return Err(ExposureConfigError::Scale);
         }
         let mut weight = [0u64; MAX_RANGES];
         for (w, v) in weight.iter_mut().zip(k.iter()).take(n) {
-            // v / unit is v scaled by a power of two: exact. Rounded up: never under-reads.
+            // v / unit is v scaled by a power of two. Rounded up (only when F < 52): never
+            // under-reads.
             *w = libm::ceil(v / unit) as u64;
         }
         Ok(Self {
             weight,
             unit_j_per_m2: unit,
+            bits: f as u32,
         })
+    }
+
+    /// Whether `max_code` held for `ticks` (plus one bucket and a 2³²-tick gap) stays below
+    /// 2¹²⁷ common units in every range.
+    fn holds(&self, max_code: u32, ticks: u64) -> bool {
+        let w_max = self.weight.iter().copied().max().unwrap_or(0);
+        let span = u128::from(ticks).saturating_add(1 << 32);
+        2u128
+            .saturating_mul(u128::from(max_code))
+            .saturating_mul(span)
+            .checked_mul(u128::from(w_max))
+            .is_some_and(|v| v < 1 << 127)
     }
 
     /// Σ_r w_r · raw_r in wrapping `u128` arithmetic (only differences are used).
@@ -272,12 +318,32 @@ impl WeightedDose {
         if max_gap == 0 || max_gap > i32::MAX as u32 {
             return Err(ExposureConfigError::MaxGap);
         }
+        Self::with_scale(meter, factor, max_gap, CommonScale::new(meter, factor)?)
+    }
+
+    fn with_scale(
+        meter: &Meter,
+        factor: WeightFactor,
+        max_gap: u32,
+        scale: CommonScale,
+    ) -> Result<Self, ExposureConfigError> {
+        if max_gap == 0 || max_gap > i32::MAX as u32 {
+            return Err(ExposureConfigError::MaxGap);
+        }
         Ok(Self {
             integrator: Integrator::new(meter, max_gap),
-            scale: CommonScale::new(meter, factor)?,
+            scale,
             clock: Clock::new(max_gap),
             factor,
         })
+    }
+
+    /// Bits of precision of the finest range's weight in the common unit: the weighted
+    /// figures over-read by at most 2^−bits relative (52: exact). At least
+    /// [`MIN_PRECISION_BITS`].
+    #[must_use]
+    pub const fn precision_bits(&self) -> u32 {
+        self.scale.bits
     }
 
     /// Move the 64-bit clock to `at` (a reading's or a timer's tick) and return its count.
@@ -617,10 +683,32 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
             return Err(Ok(ExposureConfigError::Hysteresis));
         }
         let window = RollingWindow::new(config.window_ticks, config.bucket_ticks).map_err(Ok)?;
-        let dose = WeightedDose::new(&meter, weight, config.max_gap_ticks).map_err(Ok)?;
-        let limit_units = dose
-            .level_units(config.limit)
-            .ok_or(Ok(ExposureConfigError::Limit))?;
+        // The most precision (up to exact) at which both the limit and a full-scale window fit
+        // the common unit; never below MIN_PRECISION_BITS.
+        let fe = meter.front_end();
+        let max_code = fe
+            .max_code()
+            .unsigned_abs()
+            .max(fe.min_code().unsigned_abs());
+        let span = config.window_ticks.saturating_add(config.bucket_ticks);
+        let mut found = Err(ExposureConfigError::WindowRange);
+        for bits in (MIN_PRECISION_BITS..=EXACT_BITS).rev() {
+            let scale = CommonScale::with_precision(&meter, weight, bits).map_err(Ok)?;
+            if scale.bits < bits {
+                continue;
+            }
+            if !scale.holds(max_code, span) {
+                found = Err(ExposureConfigError::WindowRange);
+            } else if let Some(limit_units) = scale.level_units(config.limit) {
+                found = Ok((scale, limit_units));
+                break;
+            } else {
+                found = Err(ExposureConfigError::Limit);
+            }
+        }
+        let (scale, limit_units) = found.map_err(Ok)?;
+        let dose =
+            WeightedDose::with_scale(&meter, weight, config.max_gap_ticks, scale).map_err(Ok)?;
         let mut raise_units = [0u128; L];
         let mut clear_units = [0u128; L];
         for ((r, c), &l) in raise_units

@@ -253,6 +253,16 @@ impl embedded_hal::digital::OutputPin for SimPin {
     }
 }
 
+/// The same shared level read as an input (an interlock held by the simulation).
+impl embedded_hal::digital::InputPin for SimPin {
+    fn is_high(&mut self) -> Result<bool, Infallible> {
+        Ok(self.0.get())
+    }
+    fn is_low(&mut self) -> Result<bool, Infallible> {
+        Ok(!self.0.get())
+    }
+}
+
 /// Exact (analytic) radiant exposure of a [`WarmingLed`] switched on at 0 and kept on until
 /// `t_s`, J/m²: ∫ E0 (1 − d (1 − e^(−t/τ))) dt.
 pub fn warming_led_exposure(led: &WarmingLed, t_s: f64) -> f64 {

@@ -1,4 +1,4 @@
-//! No-panic link check, API groups "exposure" (accrual, rolling window, exposure monitor,
+//! No-panic link check, API groups "exposure" (weighted dose, rolling window, exposure monitor,
 //! solar monitor, sampling plan, display lines) and "plausibility". See
 //! `src/nopanic/common.rs`.
 
@@ -10,8 +10,8 @@ use core::hint::black_box;
 use cortex_m_rt::entry;
 use photon_ledger::exposure::display::{dose_line, solar_line};
 use photon_ledger::exposure::{
-    Accrual, ExposureConfig, ExposureMonitor, RollingWindow, SamplingPlan, SolarMonitor,
-    WeightFactor,
+    ExposureConfig, ExposureMonitor, RollingWindow, SamplingPlan, SolarMonitor, WeightFactor,
+    WeightedDose,
 };
 use photon_ledger::plausibility::{Plausibility, PlausibilityConfig};
 use photon_ledger::prelude::*;
@@ -34,7 +34,7 @@ fn reading(code: i32, range: u8, at: u32) -> Reading {
 fn accrual(m: &Meter, w: WeightFactor) {
     // A valid and an invalid maximum gap: both paths run.
     for max_gap in [black_box(100u32), black_box(0u32)] {
-        let mut a = match Accrual::new(m, w, max_gap) {
+        let mut a = match WeightedDose::new(m, w, max_gap) {
             Ok(a) => a,
             Err(e) => {
                 show(&e);
@@ -51,6 +51,7 @@ fn accrual(m: &Meter, w: WeightFactor) {
                 _ => 10,
             };
             t = t.wrapping_add(black_box(step));
+            black_box(a.advance_clock(Ticks(t)));
             let range = if n % 97 == 96 { 9 } else { (n / 150) as u8 };
             match a.accept(
                 black_box(2000 - (n % 7) as i32),
@@ -63,18 +64,20 @@ fn accrual(m: &Meter, w: WeightFactor) {
                 Err(e) => show(&e),
             }
         }
-        black_box(a.effective_irradiance().w_per_m2());
-        black_box(a.last());
-        black_box(a.ticks_to_s(black_box(12_345)));
+        black_box(a.effective_irradiance(m).w_per_m2());
+        black_box(a.to_exposure(a.total_units()).j_per_m2());
+        black_box(a.to_exposure(a.gap_units()).j_per_m2());
+        black_box(a.level_units(RadiantExposure::from_j_per_m2(black_box(30.0))));
+        black_box(a.now());
         a.break_run();
-        black_box(a.last());
+        black_box(a.integrator().exposure_bound().j_per_m2());
     }
 }
 
 #[inline(never)]
 fn rolling_window() {
     for (window, bucket) in [
-        (black_box(8_000u32), black_box(1_000u32)),
+        (black_box(8_000u64), black_box(1_000u64)),
         (black_box(8_000), black_box(0)),
         (black_box(80_000), black_box(1_000)),
     ] {
@@ -85,18 +88,16 @@ fn rolling_window() {
                 continue;
             }
         };
-        let mut t = 0u32;
-        for n in 0..black_box(100u32) {
-            t = t.wrapping_add(black_box(if n == 50 { u32::MAX - 10 } else { 250 }));
-            if let Err(e) = w.roll_to(Ticks(t)) {
-                show(&e);
-            }
-            w.add(black_box(u128::from(n) << 40));
+        let mut t = 0u64;
+        let mut total = 0u128;
+        for n in 0..black_box(100u64) {
+            t = t.wrapping_add(black_box(if n == 50 { u64::MAX - 10 } else { 250 }));
+            total = total.wrapping_add(black_box(u128::from(n) << 40));
+            w.roll_to(t, total);
         }
-        w.add(black_box(u128::MAX));
-        black_box(w.total_quanta());
-        black_box(w.complete_total().j_per_m2());
-        black_box(w.total().j_per_m2());
+        w.reset(black_box(u128::MAX));
+        black_box(w.total(total));
+        black_box(w.complete_total());
         black_box(w.buckets());
         black_box(w.bucket_ticks());
     }
@@ -161,6 +162,9 @@ fn monitor(m: &Meter, w: WeightFactor) {
                 black_box(e);
             }
         }
+        black_box(mon.set_dark_offset(RangeIndex(black_box(0)), black_box(3)));
+        black_box(mon.window_units());
+        black_box(mon.limit_units());
         black_box(mon.shift_totals());
         black_box(mon.end_shift());
         black_box(mon.window_exposure().j_per_m2());
@@ -179,14 +183,15 @@ fn monitor(m: &Meter, w: WeightFactor) {
 #[inline(never)]
 fn solar(m: &Meter) {
     let erythema = WeightFactor::from_ratio(black_box(0.02)).unwrap_or(WeightFactor::UNWEIGHTED);
-    for averaging in [black_box(5_000u32), black_box(5_500u32)] {
-        let mut s = match SolarMonitor::<7>::new(m, erythema, averaging, 1_000, black_box(100)) {
-            Ok(s) => s,
-            Err(e) => {
-                show(&e);
-                continue;
-            }
-        };
+    for averaging in [black_box(5_000u64), black_box(5_500u64)] {
+        let mut s =
+            match SolarMonitor::<7>::new(m.clone(), erythema, averaging, 1_000, black_box(100)) {
+                Ok(s) => s,
+                Err(e) => {
+                    show(&e);
+                    continue;
+                }
+            };
         let mut t = 0u32;
         for n in 0..black_box(1_000u32) {
             t = t.wrapping_add(black_box(if n == 500 { 300 } else { 10 }));
@@ -196,6 +201,12 @@ fn solar(m: &Meter) {
                 }
                 Err(e) => show(&e),
             }
+        }
+        match s.on_reading(&reading(4_095, 0, t.wrapping_add(10))) {
+            Ok(g) => {
+                black_box(g);
+            }
+            Err(e) => show(&e),
         }
         black_box(s.uv_index().value());
         let (uvi, cat) = s.uv_index_reported();
