@@ -222,7 +222,7 @@ impl CommonScale {
         // < 2^(spread + 1 + F), which must stay ≤ 2⁶³. F ≥ 52 makes every weight exact (a
         // 53-bit mantissa scaled by a power of two).
         let spread = e_max.saturating_sub(e_min);
-        let f = (bits.min(EXACT_BITS) as i32).min(62 - spread);
+        let f = (bits.min(EXACT_BITS) as i32).min(62i32.saturating_sub(spread));
         if f < MIN_PRECISION_BITS as i32 {
             return Err(ExposureConfigError::RangeSpread);
         }
