@@ -4,9 +4,12 @@
 //! rail checks, dark correction, code → W/m², trapezoid, two threshold compares) in the
 //! same run.
 //!
-//! Goal: the exact pipeline within 1.5× of the naive loop. Prints figures; asserts nothing
-//! about timing. Run: `cargo bench -p hosttests --bench throughput`.
-//! `THROUGHPUT_SAMPLES` sets the stream length (default 4 000 000).
+//! Goal: the exact pipeline within 1.5× of the naive loop ([`RATIO_GOAL`]). Enforced: the
+//! ratio must not exceed [`RATIO_LIMIT`] (what the code holds today, with a margin), and every
+//! timed step must have succeeded with the expected outcome, and the exact dose must equal its
+//! closed form; the bench exits non-zero otherwise. Run:
+//! `cargo bench -p hosttests --bench throughput`. `THROUGHPUT_SAMPLES` sets the stream length
+//! (default 4 000 000).
 
 use std::convert::Infallible;
 use std::hint::black_box;
@@ -112,6 +115,14 @@ impl Naive {
 
 const ROUNDS: usize = 7;
 
+/// What the project aims for: exact pipeline time / naive f32 loop time.
+const RATIO_GOAL: f64 = 1.5;
+/// The enforced ceiling: five runs of this bench on the development machine (2 shared cores)
+/// gave 2.14, 2.27, 2.42, 1.71, 1.88 — median 2.14 — so the limit is the median plus 0.66
+/// (about 30 %) for a loaded CI machine (see DEVELOPERS.md, "Host throughput"). Lower it when
+/// the pipeline gets faster; never raise it to pass.
+const RATIO_LIMIT: f64 = 2.8;
+
 /// One sample through the session, behind a call boundary like [`Naive::on_reading`], so
 /// both loops have the same call structure; like it, the decision comes back as a small
 /// code (returning the whole `Outcome` through memory would time a store-forwarding stall
@@ -148,29 +159,43 @@ fn main() {
     };
     let w_per_m2_per_code = (VREF / 4096.0 / RF / (0.2 * 1e-6)) as f32;
 
+    // Every timed loop ORs the outcome code of each step into `outcomes`; every step of this
+    // stream must come back 0 (integrated, below the target), checked after each round.
     let mut exact_h = 0.0;
+    let mut exact_raw = 0i128;
     let mut run_exact = || {
         let mut s = Session::new(meter(), config, NoPin, NoPin).expect("session");
         s.start().expect("start");
+        let mut outcomes = 0u8;
         let t0 = Instant::now();
         for r in &readings {
-            black_box(exact_step(&mut s, black_box(r)));
+            outcomes |= black_box(exact_step(&mut s, black_box(r)));
         }
         let dt = t0.elapsed();
         exact_h = s.progress().exposure.j_per_m2();
-        dt
+        exact_raw = s.integrator().raw_total(RangeIndex(0));
+        (dt, outcomes)
     };
     let m = meter();
-    let run_integrator = || {
+    let mut integrator_raw = 0i128;
+    let mut run_integrator = || {
         let mut i = Integrator::new(&m, 100);
-        let _ = i.add_threshold(target, Rounding::NotBefore);
-        let _ = i.add_threshold(RadiantExposure::from_j_per_m2(1.1e9), Rounding::NotAfter);
+        i.add_threshold(target, Rounding::NotBefore)
+            .expect("threshold list has room");
+        i.add_threshold(RadiantExposure::from_j_per_m2(1.1e9), Rounding::NotAfter)
+            .expect("threshold list has room");
+        let mut outcomes = 0u8;
         let t0 = Instant::now();
         for r in &readings {
             let r = black_box(r);
-            black_box(i.accept(r.code - DARK, r.range, r.at).ok());
+            outcomes |= match black_box(i.accept(r.code - DARK, r.range, r.at)) {
+                Ok(step) => step.crossed.0,
+                Err(_) => 0xFF,
+            };
         }
-        t0.elapsed()
+        let dt = t0.elapsed();
+        integrator_raw = i.raw_total(RangeIndex(0));
+        (dt, outcomes)
     };
     let mut naive_h = 0.0f32;
     let mut run_naive = || {
@@ -182,26 +207,37 @@ fn main() {
             dose: 0.0,
             last: None,
         };
+        let mut outcomes = 0u8;
         let t0 = Instant::now();
         for r in &readings {
-            black_box(s.on_reading(black_box(r)));
+            outcomes |= black_box(s.on_reading(black_box(r)));
         }
         let dt = t0.elapsed();
         naive_h = s.dose;
-        dt
+        (dt, outcomes)
     };
     // Interleaved rounds, best of each: a machine whose load changes during the run slows
     // all three alike.
     let (mut t_exact, mut t_integrator, mut t_naive) =
         (Duration::MAX, Duration::MAX, Duration::MAX);
-    for _ in 0..ROUNDS {
-        let e = run_exact();
+    let mut failed = Vec::new();
+    for round in 0..ROUNDS {
+        let (e, e_out) = run_exact();
+        let (i, i_out) = run_integrator();
+        let (v, v_out) = run_naive();
         if std::env::var_os("THROUGHPUT_VERBOSE").is_some() {
-            eprintln!("round: exact {e:?}");
+            eprintln!("round: exact {e:?}, integrator {i:?}, naive {v:?}");
+        }
+        for (what, out) in [("exact", e_out), ("integrator", i_out), ("naive", v_out)] {
+            if out != 0 {
+                failed.push(format!(
+                    "round {round}, {what} loop: a step did not integrate below the target (outcome bits {out:#04x})"
+                ));
+            }
         }
         t_exact = t_exact.min(e);
-        t_integrator = t_integrator.min(run_integrator());
-        t_naive = t_naive.min(run_naive());
+        t_integrator = t_integrator.min(i);
+        t_naive = t_naive.min(v);
     }
     let rate = |d: Duration| n as f64 / d.as_secs_f64();
     let ratio = t_exact.as_secs_f64() / t_naive.as_secs_f64();
@@ -221,9 +257,53 @@ fn main() {
         rate(t_naive) / 1e6,
         t_naive.as_secs_f64() * 1e9 / n as f64
     );
-    println!("  ratio exact/naive: {ratio:.2} (goal <= 1.5)");
     println!(
-        "  dose: exact {exact_h:.6} J/m2, naive f32 {naive_h:.6} J/m2 (relative error of f32 {:.2e})",
-        ((f64::from(naive_h) - exact_h) / exact_h).abs()
+        "  ratio exact/naive: {ratio:.2} (goal <= {RATIO_GOAL}, enforced limit <= {RATIO_LIMIT}): {}",
+        if ratio <= RATIO_GOAL {
+            "goal met"
+        } else if ratio <= RATIO_LIMIT {
+            "within the limit, goal not met"
+        } else {
+            "OVER THE LIMIT"
+        }
     );
+    if ratio > RATIO_LIMIT {
+        failed.push(format!(
+            "ratio exact/naive {ratio:.2} > enforced limit {RATIO_LIMIT}"
+        ));
+    }
+
+    // The closed form of the exact dose: Σ (n_i + n_{i−1}) · Δt_i in i128 over the net codes,
+    // times ½ · (W/m² per code) / tick rate, the factor from the definitions: one code is
+    // VREF / 2^BITS V, i.e. that / RF A, i.e. that / (0.2 A/W · 1 mm²) W/m².
+    let mut units = 0i128;
+    for p in readings.windows(2) {
+        let dt = i128::from(p[1].at.0.wrapping_sub(p[0].at.0));
+        units += (i128::from(p[1].code - DARK) + i128::from(p[0].code - DARK)) * dt;
+    }
+    let w_per_m2_per_code_f64 = VREF / f64::from(1u32 << BITS) / RF / (0.2 * 1e-6);
+    let closed_h = units as f64 * 0.5 * w_per_m2_per_code_f64 / f64::from(HZ);
+    // Relative 1e-12: the library's scale is a handful of f64 operations and the read-out one
+    // conversion of the i128 total and one multiply, each within 2^-52 relative.
+    let rel = ((exact_h - closed_h) / closed_h).abs();
+    println!(
+        "  dose: exact {exact_h:.6} J/m2, closed form {closed_h:.6} J/m2 (relative difference {rel:.2e}); naive f32 {naive_h:.6} J/m2 (relative error of f32 {:.2e})",
+        ((f64::from(naive_h) - closed_h) / closed_h).abs()
+    );
+    if exact_raw != units || integrator_raw != units {
+        failed.push(format!(
+            "integer totals: session {exact_raw}, integrator {integrator_raw}, closed form {units}"
+        ));
+    }
+    if rel.is_nan() || rel > 1e-12 {
+        failed.push(format!(
+            "exact dose {exact_h} J/m2 differs from its closed form {closed_h} J/m2 by {rel:.2e}"
+        ));
+    }
+    if !failed.is_empty() {
+        for f in &failed {
+            eprintln!("FAIL: {f}");
+        }
+        std::process::exit(1);
+    }
 }

@@ -35,3 +35,7 @@ marker!(pl_mark_6, 6);
 marker!(pl_mark_7, 7);
 marker!(pl_mark_8, 8);
 marker!(pl_mark_9, 9);
+marker!(pl_mark_10, 10);
+marker!(pl_mark_11, 11);
+marker!(pl_mark_12, 12);
+marker!(pl_mark_13, 13);

@@ -10,6 +10,11 @@
 //! | 4 → 5 | `Session::on_reading`, steady state (front-end check, integral, controller checks) |
 //! | 6 → 7 | `Session::on_reading` on the sample that reaches the target (enable pin written) |
 //! | 8 → 9 | `Integrator::accept` on a range change (informational: segment close, limits recomputed) |
+//! | 10 → 11 | positive control: an `f64` multiply (soft float on both cores) |
+//! | 12 → 13 | positive control: an `i32` to `f64` conversion (`__aeabi_i2d`) |
+//!
+//! The two controls must show soft-float instructions, or `.ci/firmware.sh` fails: they prove
+//! that its soft-float pattern sees the routines the hot-path figure must not contain.
 //!
 //! The firmware checks that every measured call returned what it must, so a count can never
 //! come from a path that did something else.
@@ -79,6 +84,19 @@ fn two_range_meter() -> Option<Meter> {
         None,
     )
     .ok()
+}
+
+/// Positive control: an `f64` multiply, a software routine on the M0 and on the M4F (whose
+/// FPU is single precision).
+#[inline(never)]
+fn control_f64_mul(a: f64, b: f64) -> f64 {
+    a * b
+}
+
+/// Positive control: an integer to `f64` conversion (`__aeabi_i2d`).
+#[inline(never)]
+fn control_i32_to_f64(a: i32) -> f64 {
+    f64::from(a)
 }
 
 #[entry]
@@ -212,6 +230,19 @@ fn main() -> ! {
         "accept: range change integrated",
         step.map(|s| s.interval) == Ok(SAMPLE_TICKS),
     );
+
+    // Soft-float positive controls.
+    let (a, b) = (black_box(1.5f64), black_box(3.0f64));
+    pl_mark_10();
+    let product = control_f64_mul(a, b);
+    pl_mark_11();
+    c.check("control: f64 multiply", black_box(product) == 4.5);
+    let k = black_box(-7i32);
+    pl_mark_12();
+    let converted = control_i32_to_f64(k);
+    pl_mark_13();
+    c.check("control: i32 to f64", black_box(converted) == -7.0);
+
     hprintln!("crossing at sample {}", crossing);
     c.finish("hotpath")
 }
