@@ -231,28 +231,7 @@ fn a_forward_jump_is_charged_as_a_gap_and_later_readings_count() {
 #[test]
 fn an_eight_hour_window_at_ten_megahertz() {
     // A u32 window could not hold 8 h above 149 kHz; the 64-bit clock holds 2.88e11 ticks.
-    let fe = FrontEnd::new(
-        AdcSpec {
-            bits: 12,
-            reference: Voltage::from_v(4.096),
-            pga_gain: 1.0,
-            coding: Coding::Unipolar,
-            saturation_margin: 0,
-        },
-        &[AmplifierRange {
-            gain: Transimpedance::from_kohm(100.0),
-            dark_offset: 0,
-        }],
-    )
-    .unwrap();
-    let meter = Meter::new(
-        fe,
-        Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e5)),
-        Band::Line(Wavelength::from_nm(254.0)),
-        TickRate::from_hz(10_000_000).unwrap(),
-        None,
-    )
-    .unwrap();
+    let meter = common::meter_with(10_000_000, 254.0);
     let hz = 10_000_000u64;
     let config = ExposureConfig {
         window_ticks: 8 * 3600 * hz,

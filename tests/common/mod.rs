@@ -6,6 +6,11 @@ use photon_ledger::prelude::*;
 /// 12-bit ADC with a 4.096 V reference (1 mV per code), one 100 kΩ range (10 nA per code) and
 /// a certificate factor of 1e5 (W/m²)/A, so one net code is 1 mW/m²; 1 kHz ticks; 365 nm line.
 pub fn meter() -> Meter {
+    meter_with(1000, 365.0)
+}
+
+/// The same front end and calibration as [`meter`], at `tick_hz` ticks/s and a line at `nm`.
+pub fn meter_with(tick_hz: u32, nm: f64) -> Meter {
     let fe = FrontEnd::new(
         AdcSpec {
             bits: 12,
@@ -23,8 +28,8 @@ pub fn meter() -> Meter {
     Meter::new(
         fe,
         Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e5)),
-        Band::Line(Wavelength::from_nm(365.0)),
-        TickRate::from_hz(1000).unwrap(),
+        Band::Line(Wavelength::from_nm(nm)),
+        TickRate::from_hz(tick_hz).unwrap(),
         Some(Area::from_cm2(1.0)),
     )
     .unwrap()
