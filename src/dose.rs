@@ -39,8 +39,9 @@
 //! # Gaps: a conservative charge beside the measured dose
 //!
 //! A gap is not measured, so it is not in [`Integrator::exposure`]. It is charged with a
-//! conservative bound, max(irradiance before, irradiance after) × gap (negative codes count as
-//! zero), kept in per-range integer totals of its own ([`Integrator::gap_charge`]).
+//! conservative bound of at least max(irradiance before, irradiance after) × gap (negative
+//! codes count as zero; across a range change both ends' rectangles, whose sum bounds the
+//! larger), kept in per-range integer totals of its own ([`Integrator::gap_charge`]).
 //! Thresholds rounded [`Rounding::NotAfter`] (limits that must trip early) count the charge;
 //! thresholds rounded [`Rounding::NotBefore`] (targets that must not undershoot) count only
 //! what was measured.
@@ -168,9 +169,6 @@ struct Threshold {
 // past its base register, and the cold per-range tables would push these beyond it.
 #[repr(C)]
 pub struct Integrator {
-    segment: i64,
-    band_low: i64,
-    band_high: i64,
     last: Option<LastSample>,
     max_gap: u32,
     segment_range: RangeIndex,
@@ -181,11 +179,16 @@ pub struct Integrator {
     crossed_cache: Crossed,
     /// Whether any gap was charged (so read-outs and limits skip the gap table otherwise).
     has_gap: bool,
+    segment: i64,
+    band_low: i64,
+    band_high: i64,
     preload_j_per_m2: f64,
     scale: [f64; MAX_RANGES],
     closed: [i128; MAX_RANGES],
     /// Conservative charges for gaps, per range, in the same units as `closed`.
-    gap: [i128; MAX_RANGES],
+    /// (i64, saturating: 2⁶³ units is far beyond any real dose, and an i64 converts with the
+    /// routine the open segment already links.)
+    gap: [i64; MAX_RANGES],
     thresholds: heapless::Vec<Threshold, MAX_THRESHOLDS>,
 }
 
@@ -237,14 +240,14 @@ impl Integrator {
         rounding: Rounding,
     ) -> Result<ThresholdId, RadiantExposure> {
         let id = u8::try_from(self.thresholds.len()).map_err(|_| level)?;
-        let mut t = Threshold {
+        let t = Threshold {
             level_j_per_m2: level.j_per_m2(),
             rounding,
             limit: i64::MAX,
         };
-        t.limit = self.limit_for(&t, self.closed_j_per_m2(), self.gap_j_per_m2());
         self.thresholds.push(t).map_err(|_| level)?;
-        self.refresh_crossed();
+        // Converts every limit (the new one included) and refreshes the crossed set.
+        self.recompute_limits();
         Ok(ThresholdId(id))
     }
 
@@ -482,7 +485,7 @@ impl Integrator {
     /// [`raw_total`](Self::raw_total)).
     #[must_use]
     pub fn raw_gap(&self, r: RangeIndex) -> i128 {
-        self.gap.get(usize::from(r.0)).copied().unwrap_or(0)
+        i128::from(self.gap.get(usize::from(r.0)).copied().unwrap_or(0))
     }
 
     /// The exact integer total of range `r` (code·ticks, doubled), including the open segment.
@@ -501,8 +504,13 @@ impl Integrator {
     }
 
     fn closed_j_per_m2(&self) -> f64 {
-        let mut sum = self.preload_j_per_m2;
-        for (c, k) in self.closed.iter().zip(self.scale.iter()) {
+        self.preload_j_per_m2 + self.table_j_per_m2(&self.closed)
+    }
+
+    /// Σ_r table[r] · k_r, J/m².
+    fn table_j_per_m2(&self, table: &[i128; MAX_RANGES]) -> f64 {
+        let mut sum = 0.0;
+        for (c, k) in table.iter().zip(self.scale.iter()) {
             sum += *c as f64 * k;
         }
         sum
@@ -519,20 +527,34 @@ impl Integrator {
         sum
     }
 
-    /// Charge a gap from `before` to `after` (`ticks` long): the end with the larger
-    /// irradiance (negative codes as zero) held for the whole gap, a rectangle of
-    /// 2 · net · ticks units in that end's range.
+    /// Charge a gap from `before` to `after` (`ticks` long), negative codes as zero, in
+    /// integers only: in one range, the larger end held for the whole gap (a rectangle of
+    /// 2 · net · ticks units); across a range change, both ends' rectangles, each in its own
+    /// range — their sum bounds the larger one without a floating-point comparison.
     fn charge_gap(&mut self, before: LastSample, after: LastSample, ticks: u32) {
-        let e_before = self.scale_of(before.range) * f64::from(before.net.max(0));
-        let e_after = self.scale_of(after.range) * f64::from(after.net.max(0));
-        let end = if e_after > e_before { after } else { before };
-        let units = 2 * i128::from(end.net.max(0)) * i128::from(ticks);
-        if units > 0 {
-            if let Some(g) = self.gap.get_mut(usize::from(end.range.0)) {
-                *g = g.saturating_add(units);
-            }
-            self.has_gap = true;
+        if before.range == after.range {
+            let net = before.net.max(after.net);
+            self.add_gap(before.range, net, ticks);
+        } else {
+            self.add_gap(before.range, before.net, ticks);
+            self.add_gap(after.range, after.net, ticks);
+        }
+        if self.has_gap {
             self.recompute_limits();
+        }
+    }
+
+    fn add_gap(&mut self, r: RangeIndex, net: i32, ticks: u32) {
+        // 0 ≤ net < 2³¹ and ticks < 2³²: twice their product is below 2⁶⁴, so the wrapping
+        // u64 multiply never wraps (and needs no 128-bit multiply).
+        let units = u64::from(net.max(0).unsigned_abs())
+            .wrapping_mul(u64::from(ticks))
+            .wrapping_mul(2);
+        if units > 0 {
+            if let Some(g) = self.gap.get_mut(usize::from(r.0)) {
+                *g = g.saturating_add(i64::try_from(units).unwrap_or(i64::MAX));
+                self.has_gap = true;
+            }
         }
     }
 
@@ -541,9 +563,7 @@ impl Integrator {
     }
 
     fn add_closed(&mut self, r: RangeIndex, units: i64) {
-        if let Some(c) = self.closed.get_mut(usize::from(r.0)) {
-            *c = c.saturating_add(i128::from(units));
-        }
+        add_to(&mut self.closed, r, i128::from(units));
     }
 
     /// Close the open segment into its range total and open an empty one in `next`.
@@ -565,15 +585,18 @@ impl Integrator {
             Rounding::NotBefore => closed_j,
             Rounding::NotAfter => closed_j + gap_j,
         };
-        let x = (t.level_j_per_m2 - base) / k;
-        // The f64 rounding of the conversion, in units: a few ulps of the operands. A level
-        // within it of a whole number of units is taken as that number, so a dose exactly at
-        // the level fires (ties resolved towards firing; the error is < 1e-15 of the level).
-        let slack = (libm::fabs(t.level_j_per_m2) + libm::fabs(base)) / k * TIE_SLACK;
+        // The f64 rounding of the conversion is a few ulps of the level (the closed dose is
+        // below it while the threshold matters). Moving the level by TIE_SLACK of itself
+        // towards firing makes a dose exactly at the level fire at that sample (ties resolved
+        // towards firing; the error is < 1e-15 of the level).
         // `as` from f64 saturates at the i64 bounds (and maps NaN to 0, excluded above).
         match t.rounding {
-            Rounding::NotBefore => libm::ceil(x - slack) as i64,
-            Rounding::NotAfter => libm::floor(x + slack) as i64,
+            Rounding::NotBefore => {
+                libm::ceil((t.level_j_per_m2 * (1.0 - TIE_SLACK) - base) / k) as i64
+            }
+            Rounding::NotAfter => {
+                libm::floor((t.level_j_per_m2 * (1.0 + TIE_SLACK) - base) / k) as i64
+            }
         }
     }
 
@@ -592,8 +615,17 @@ impl Integrator {
     }
 }
 
-/// Relative slack of a threshold conversion (8 ulps): see `limit_for`.
-const TIE_SLACK: f64 = 8.0 * f64::EPSILON;
+/// Add `units` to range `r` of a per-range table, saturating. One out-of-line copy: a
+/// saturating 128-bit add is about 140 instructions on a Cortex-M0.
+#[inline(never)]
+fn add_to(table: &mut [i128; MAX_RANGES], r: RangeIndex, units: i128) {
+    if let Some(c) = table.get_mut(usize::from(r.0)) {
+        *c = c.saturating_add(units);
+    }
+}
+
+/// Relative slack of a threshold conversion (16 ulps of the level): see `limit_for`.
+const TIE_SLACK: f64 = 16.0 * f64::EPSILON;
 
 /// Bounds of the crossed-set cache band (see `refresh_crossed`).
 const BAND_MIN: i64 = i64::MIN + (1 << 31);
@@ -741,9 +773,16 @@ mod tests {
     }
 
     #[test]
-    fn a_gap_charges_the_brighter_end_even_in_another_range() {
-        // Rising light across a gap: 5 W/m² before (range 0), 30 W/m² after (3 codes in
-        // range 1). The charge is 30 W/m² × 0.5 s = 15 J/m², in range 1's units.
+    fn a_gap_charges_at_least_the_brighter_end() {
+        // Rising light across a gap in one range: 5 then 30 W/m² (range 0) for 0.5 s: the
+        // brighter end, 30 W/m² × 0.5 s = 15 J/m².
+        let mut i = Integrator::new(&meter(), 100);
+        i.accept(5, RangeIndex(0), Ticks(0)).unwrap();
+        let _ = i.accept(30, RangeIndex(0), Ticks(500));
+        assert_eq!(i.raw_gap(RangeIndex(0)), 2 * 30 * 500);
+        assert!((i.gap_charge().j_per_m2() - 15.0).abs() < 1e-12);
+        // Across a range change, 5 W/m² (range 0) then 30 W/m² (3 codes in range 1): both
+        // ends' rectangles, 2.5 + 15 J/m², which bounds the brighter end's 15 J/m².
         let mut i = Integrator::new(&meter(), 100);
         i.accept(5, RangeIndex(0), Ticks(0)).unwrap();
         assert_eq!(
@@ -751,8 +790,8 @@ mod tests {
             Err(SampleError::Gap { ticks: 500 })
         );
         assert_eq!(i.raw_gap(RangeIndex(1)), 2 * 3 * 500);
-        assert_eq!(i.raw_gap(RangeIndex(0)), 0);
-        assert!((i.gap_charge().j_per_m2() - 15.0).abs() < 1e-12);
+        assert_eq!(i.raw_gap(RangeIndex(0)), 2 * 5 * 500);
+        assert!((i.gap_charge().j_per_m2() - 17.5).abs() < 1e-12);
         // Below-dark codes charge nothing.
         let mut j = Integrator::new(&meter(), 100);
         j.accept(-5, RangeIndex(0), Ticks(0)).unwrap();

@@ -25,7 +25,7 @@
 //!
 //! What a gap costs is the controller's policy over the one integral: the
 //! [`Integrator`](crate::dose::Integrator) charges it with a conservative bound,
-//! max(irradiance before, irradiance after) × gap, kept as a separate figure beside the
+//! at least max(irradiance before, irradiance after) × gap, kept as a separate figure beside the
 //! measured dose; limits (rounded to trip early) include the charge, stop targets do not. The
 //! session and the curing controller also fault on a gap; the exposure monitors keep
 //! counting. A counter that truly runs backwards by more than `max_gap` cannot be told from a

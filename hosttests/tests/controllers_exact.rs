@@ -129,13 +129,21 @@ impl Reference {
         } else if dt.wrapping_neg() <= MAX_GAP {
             Class::Backwards
         } else {
-            let eb = &self.k[lr] * int(i128::from(ln.max(0)));
-            let ea = &self.k[r] * int(i128::from(net.max(0)));
-            let (n, rr) = if ea > eb { (net, r) } else { (ln, lr) };
-            let units = 2 * i128::from(n.max(0)) * i128::from(dt);
-            self.gaps[rr] += units;
+            // The documented charge: in one range the larger end, across a range change both
+            // ends' rectangles.
+            let mut piece = BigRational::zero();
+            let ends: Vec<(i32, usize)> = if r == lr {
+                vec![(net.max(ln), r)]
+            } else {
+                vec![(ln, lr), (net, r)]
+            };
+            for (n, rr) in ends {
+                let units = 2 * i128::from(n.max(0)) * i128::from(dt);
+                self.gaps[rr] += units;
+                piece += &self.k[rr] * int(units);
+            }
             self.now += u64::from(dt);
-            self.pieces.push((self.now, &self.k[rr] * int(units)));
+            self.pieces.push((self.now, piece));
             Class::Gap
         }
     }
