@@ -17,7 +17,7 @@
 
 use embedded_hal::digital::OutputPin;
 
-use crate::frontend::{CodeFault, FrontEnd, MAX_RANGES};
+use crate::frontend::{CodeFault, FrontEnd, Sample, MAX_RANGES};
 use crate::reading::{RangeIndex, Reading};
 
 /// Autorange thresholds and settling delay.
@@ -152,13 +152,23 @@ impl<P: OutputPin, const K: usize> Autorange<P, K> {
         reading: &Reading,
         front_end: &FrontEnd,
     ) -> Result<Decision, P::Error> {
+        self.observe_sample(&front_end.sample(reading))
+    }
+
+    /// As [`observe`](Self::observe), for a reading whose net code was already computed
+    /// ([`FrontEnd::sample`]) and is shared with the controller and the plausibility checks.
+    ///
+    /// # Errors
+    /// As [`observe`](Self::observe).
+    pub fn observe_sample(&mut self, sample: &Sample) -> Result<Decision, P::Error> {
+        let reading = &sample.reading;
         if self.settle_left > 0 {
             self.settle_left -= 1;
             return Ok(Decision::Settling);
         }
         let last = self.ranges.saturating_sub(1);
         let r = reading.range;
-        match front_end.net_code(reading) {
+        match sample.net {
             Err(CodeFault::SaturatedHigh | CodeFault::SaturatedLow) => {
                 if r.0 < last {
                     let next = RangeIndex(r.0 + 1);

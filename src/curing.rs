@@ -113,7 +113,7 @@ use core::ops::{BitOr, BitOrAssign};
 use embedded_hal::digital::{InputPin, OutputPin};
 
 use crate::dose::{Crossed, Integrator, Rounding, SampleError, ThresholdId};
-use crate::frontend::{CodeFault, MAX_RANGES};
+use crate::frontend::{CodeFault, Sample, MAX_RANGES};
 use crate::irradiance::Meter;
 use crate::quantity::{Irradiance, RadiantExposure, Seconds};
 use crate::reading::{RangeIndex, Reading, Ticks};
@@ -1085,6 +1085,18 @@ where
     /// [`CuringError::Output`] or [`CuringError::Interlock`] when a pin fails; the controller
     /// is then faulted (the reading was still integrated if it was usable).
     pub fn on_reading(&mut self, reading: &Reading) -> Result<Update, CuringError<EO, EI>> {
+        let sample = self.meter.front_end().sample(reading);
+        self.on_sample(&sample)
+    }
+
+    /// Feed one reading whose net code was already computed with this controller's meter
+    /// ([`FrontEnd::sample`](crate::frontend::FrontEnd::sample)); otherwise as
+    /// [`on_reading`](Self::on_reading).
+    ///
+    /// # Errors
+    /// As [`on_reading`](Self::on_reading).
+    pub fn on_sample(&mut self, sample: &Sample) -> Result<Update, CuringError<EO, EI>> {
+        let reading = &sample.reading;
         self.pending = Events::NONE;
         if self.part.is_none() {
             return Ok(Update {
@@ -1094,7 +1106,7 @@ where
             });
         }
         let door = self.read_interlock();
-        let (sample, net) = self.integrate(reading)?;
+        let (sample, net) = self.integrate(reading, sample.net)?;
         if let Ok(closed) = door {
             self.handle_interlock(closed, reading.at)?;
         }
@@ -1448,9 +1460,10 @@ where
     fn integrate(
         &mut self,
         reading: &Reading,
+        net: Result<i32, CodeFault>,
     ) -> Result<(SampleUse, Option<i32>), CuringError<EO, EI>> {
         let at = reading.at;
-        let net = match self.meter.front_end().net_code(reading) {
+        let net = match net {
             Ok(n) => n,
             Err(f @ (CodeFault::SaturatedHigh | CodeFault::SaturatedLow)) => {
                 let max = self.config.max_unusable_run;

@@ -49,7 +49,7 @@
 use embedded_hal::digital::OutputPin;
 
 use crate::dose::{Integrator, SampleError};
-use crate::frontend::{CodeFault, MAX_RANGES};
+use crate::frontend::{CodeFault, Sample, MAX_RANGES};
 use crate::irradiance::Meter;
 use crate::quantity::{Irradiance, RadiantExposure, Seconds};
 use crate::reading::{RangeIndex, Reading, Ticks};
@@ -750,8 +750,20 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
     /// # Errors
     /// The pin error if a warning output cannot be written (the exposure is still counted).
     pub fn on_reading(&mut self, reading: &Reading) -> Result<Changes, P::Error> {
+        let sample = self.meter.front_end().sample(reading);
+        self.on_sample(&sample)
+    }
+
+    /// Feed one reading whose net code was already computed with this monitor's meter
+    /// ([`FrontEnd::sample`](crate::frontend::FrontEnd::sample)); otherwise as
+    /// [`on_reading`](Self::on_reading).
+    ///
+    /// # Errors
+    /// As [`on_reading`](Self::on_reading).
+    pub fn on_sample(&mut self, sample: &Sample) -> Result<Changes, P::Error> {
+        let reading = &sample.reading;
         let mut changes = Changes::default();
-        let net = match net_or_full_scale(&self.meter, reading) {
+        let net = match net_or_full_scale(&self.meter, sample) {
             Ok((n, saturated)) => {
                 changes.saturated = saturated;
                 n
@@ -952,9 +964,10 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
 
 /// The net code of a reading, or the range's full-scale net code for a top-rail (saturated)
 /// reading — the least the light can be — with `true`.
-fn net_or_full_scale(meter: &Meter, reading: &Reading) -> Result<(i32, bool), CodeFault> {
+fn net_or_full_scale(meter: &Meter, sample: &Sample) -> Result<(i32, bool), CodeFault> {
     let fe = meter.front_end();
-    match fe.net_code(reading) {
+    let reading = &sample.reading;
+    match sample.net {
         Ok(n) => Ok((n, false)),
         Err(CodeFault::SaturatedHigh) => {
             let dark = fe.range(reading.range).map_or(0, |r| r.dark_offset);
@@ -1018,8 +1031,9 @@ impl<const N: usize> SolarMonitor<N> {
     /// [`SampleError::UnknownRange`] for a code that cannot be used; otherwise as
     /// [`accept`](Self::accept).
     pub fn on_reading(&mut self, reading: &Reading) -> Result<Option<Gap>, SampleError> {
+        let sample = self.meter.front_end().sample(reading);
         let (net, _) =
-            net_or_full_scale(&self.meter, reading).map_err(|_| SampleError::UnknownRange)?;
+            net_or_full_scale(&self.meter, &sample).map_err(|_| SampleError::UnknownRange)?;
         self.accept(net, reading.range, reading.at)
     }
 

@@ -133,6 +133,19 @@ impl core::fmt::Display for CodeFault {
     }
 }
 
+/// A reading with the front end's verdict on it: its net (dark-corrected) code, or why it
+/// cannot be used. Computed once per reading ([`FrontEnd::sample`]) and passed to every
+/// consumer — the autoranger, the plausibility checks and the controllers — so no stage
+/// recomputes it with a dark offset of its own.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Sample {
+    /// The reading as taken.
+    pub reading: Reading,
+    /// Its net code ([`FrontEnd::net_code`]).
+    pub net: Result<i32, CodeFault>,
+}
+
 /// A validated front end: conversion factors per range, computed once.
 #[derive(Debug, Clone, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -259,6 +272,16 @@ impl FrontEnd {
         // Both values lie within the code range (±2^24; the dark offset is validated when set),
         // so the difference never wraps; `wrapping_sub` only tells the compiler so.
         Ok(c.wrapping_sub(range.dark_offset))
+    }
+
+    /// The reading with its net code: the one place a reading is dark-corrected.
+    #[must_use]
+    #[inline]
+    pub fn sample(&self, reading: &Reading) -> Sample {
+        Sample {
+            reading: *reading,
+            net: self.net_code(reading),
+        }
     }
 
     /// Replace the dark offset of range `r` (after a dark capture). Returns `false` and changes

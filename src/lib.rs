@@ -171,7 +171,7 @@ pub mod prelude {
         PartRecord, StopPolicy, StopReason,
     };
     pub use crate::dose::{Integrator, Rounding, SampleError};
-    pub use crate::frontend::{AdcSpec, AmplifierRange, CodeFault, Coding, FrontEnd};
+    pub use crate::frontend::{AdcSpec, AmplifierRange, CodeFault, Coding, FrontEnd, Sample};
     pub use crate::irradiance::{Calibration, Meter};
     pub use crate::journal::checkpoint::{CheckpointConfig, Checkpointer};
     pub use crate::journal::{Journal, JournalConfig, JournalError, Retention};

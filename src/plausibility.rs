@@ -229,6 +229,19 @@ impl Plausibility {
         })
     }
 
+    /// Check one reading with its net code as computed once for every consumer
+    /// ([`FrontEnd::sample`]).
+    ///
+    /// # Errors
+    /// As [`check`](Self::check).
+    pub fn check_sample(
+        &mut self,
+        sample: &crate::frontend::Sample,
+        source_on: bool,
+    ) -> Result<(), Implausible> {
+        self.check(&sample.reading, sample.net.ok(), source_on)
+    }
+
     /// Check one reading. `net` is the front end's verdict on it
     /// ([`FrontEnd::net_code`]); `source_on` whether the firmware commands the light on.
     ///

@@ -28,7 +28,7 @@
 use embedded_hal::digital::OutputPin;
 
 use crate::dose::{Integrator, Rounding, SampleError, ThresholdId};
-use crate::frontend::CodeFault;
+use crate::frontend::{CodeFault, Sample};
 use crate::irradiance::Meter;
 use crate::quantity::{
     Irradiance, PhotonAmount, PhotonExposure, PhotonIrradiance, RadiantExposure, Seconds,
@@ -309,11 +309,33 @@ where
     /// # Errors
     /// [`PinError`] if an output cannot be written (the session is then faulted).
     pub fn on_reading(&mut self, reading: &Reading) -> Result<Outcome, PinError<E>> {
+        let net = self.meter.front_end().net_code(reading);
+        self.step(reading, net)
+    }
+
+    /// Feed one reading whose net code was already computed with this session's meter
+    /// ([`FrontEnd::sample`](crate::frontend::FrontEnd::sample)), for a main loop that shares
+    /// it with the autoranger and the plausibility checks.
+    ///
+    /// # Errors
+    /// [`PinError`] if an output cannot be written (the session is then faulted).
+    pub fn on_sample(&mut self, sample: &Sample) -> Result<Outcome, PinError<E>> {
+        self.step(&sample.reading, sample.net)
+    }
+
+    /// One reading and its net code: the body of [`on_reading`](Self::on_reading) and
+    /// [`on_sample`](Self::on_sample).
+    #[inline(always)]
+    fn step(
+        &mut self,
+        reading: &Reading,
+        net: Result<i32, CodeFault>,
+    ) -> Result<Outcome, PinError<E>> {
         let before = self.phase;
         if matches!(before, Phase::Ready) || before.is_terminal() {
             return Ok(Outcome::Ignored(Ignored::NotRunning));
         }
-        let net = match self.meter.front_end().net_code(reading) {
+        let net = match net {
             Ok(n) => n,
             Err(f @ (CodeFault::SaturatedHigh | CodeFault::SaturatedLow)) => {
                 if self.unusable_run < self.config.max_unusable_run {

@@ -308,3 +308,49 @@ fn counter_wrap_gives_the_same_stop() {
     }
     assert_eq!(stops[0], stops[1]);
 }
+
+#[test]
+fn one_sample_serves_every_stage_and_the_dark_offset_lives_in_the_meter() {
+    use hosttests::sim::SimPin;
+    use photon_ledger::plausibility::{Plausibility, PlausibilityConfig};
+    let m = meter();
+    let mut plaus = Plausibility::new(
+        &m,
+        PlausibilityConfig {
+            stuck_samples: 0,
+            pinned_samples: 0,
+            dark_sigma_codes: 0.0,
+            negative_k: 0.0,
+            max_rate_w_per_m2_s: 0.0,
+            transition_ticks: 0,
+            dark_drift_codes: 0,
+            flap_limit: 0,
+            flap_window: 16,
+        },
+    )
+    .unwrap();
+    let mut a = Session::new(m.clone(), config(1.0, 0.1), SimPin::new(), SimPin::new()).unwrap();
+    let mut b = Session::new(m, config(1.0, 0.1), SimPin::new(), SimPin::new()).unwrap();
+    // The dark offset is set once, in the meter the session owns, between runs.
+    assert!(a.set_dark_offset(RangeIndex(0), 20));
+    assert!(b.set_dark_offset(RangeIndex(0), 20));
+    a.start().unwrap();
+    b.start().unwrap();
+    assert!(
+        !a.set_dark_offset(RangeIndex(0), 0),
+        "refused while exposing"
+    );
+    for k in 0..50u32 {
+        let r = reading(520, 10 * k);
+        // Computed once, shared by the plausibility check and the controller.
+        let s = a.meter().front_end().sample(&r);
+        assert_eq!(s.net, Ok(500));
+        plaus.check_sample(&s, true).unwrap();
+        let oa = a.on_sample(&s).unwrap();
+        let ob = b.on_reading(&r).unwrap();
+        assert_eq!(oa, ob);
+    }
+    // 500 codes (1 mW/m² each) = 0.5 W/m² for 0.49 s, net of the 20-code dark offset.
+    assert!((a.progress().exposure.j_per_m2() - 0.245).abs() < 1e-12);
+    assert_eq!(a.progress(), b.progress());
+}
