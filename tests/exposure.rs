@@ -449,3 +449,74 @@ fn rolling_window_ram_at_one_minute_buckets_over_8_h() {
     // 8 h in 10-min buckets.
     assert!(core::mem::size_of::<RollingWindow<49>>() <= 49 * 16 + 64);
 }
+
+#[test]
+fn a_fine_code_step_is_read_exactly_not_twenty_percent_high() {
+    // The configuration from the defect report: 16-bit ADC at 2.5 V, a 100 MΩ range, a
+    // 0.2 A/W detector of 1 mm², a 32.768 kHz tick and a 395/10 nm LED: 1.9e-6 W/m² per
+    // code, 2.9e-11 J/m² per integrator unit (computed). Weighted by 1e-4 (illustrative, the
+    // order of S(λ) averaged over such a band, from memory) that is 12.5 steps of the old
+    // accrual's 2⁻³² µJ/m², which it rounded up to 13: 4 % high (20 % at a weight of 2e-5).
+    let fe = FrontEnd::new(
+        AdcSpec {
+            bits: 16,
+            reference: Voltage::from_v(2.5),
+            pga_gain: 1.0,
+            coding: Coding::Unipolar,
+            saturation_margin: 0,
+        },
+        &[AmplifierRange {
+            gain: Transimpedance::from_mohm(100.0),
+            dark_offset: 0,
+        }],
+    )
+    .unwrap();
+    let m = Meter::new(
+        fe,
+        Calibration::Responsivity {
+            responsivity: Responsivity::from_a_per_w(0.2),
+            active_area: Area::from_mm2(1.0),
+        },
+        Band::Led {
+            peak: Wavelength::from_nm(395.0),
+            fwhm: Wavelength::from_nm(10.0),
+        },
+        TickRate::from_hz(32_768).unwrap(),
+        None,
+    )
+    .unwrap();
+    let w = 1e-4;
+    let k = m.j_per_m2_per_unit(RangeIndex(0));
+    let mut config = icnirp_config();
+    config.max_gap_ticks = 40_000;
+    config.window_ticks = 8 * 3600 * 32_768;
+    config.bucket_ticks = 600 * 32_768;
+    let pins = [SimPin::new(), SimPin::new(), SimPin::new()];
+    let mut mon = ExposureMonitor::<49, 3, SimPin>::new(
+        m,
+        WeightFactor::from_ratio(w).unwrap(),
+        config,
+        pins,
+    )
+    .unwrap();
+    assert_eq!(mon.dose().precision_bits(), 52, "one range: exact weights");
+    // Irregular readings for 20 min; the exact trapezoid in integers.
+    let (mut t, mut last, mut units) = (0u32, None::<(i32, u32)>, 0i128);
+    for n in 0..1200u32 {
+        let code = 1000 + i32::try_from((n * 7919) % 3000).unwrap();
+        mon.on_reading(&Reading {
+            code,
+            range: RangeIndex(0),
+            at: Ticks(t),
+        })
+        .unwrap();
+        if let Some((c0, t0)) = last {
+            units += i128::from(c0 + code) * i128::from(t - t0);
+        }
+        last = Some((code, t));
+        t += 30_000 + (n % 5) * 1000;
+    }
+    let exact = units as f64 * k * w;
+    let got = mon.window_exposure().j_per_m2();
+    assert!((got - exact).abs() <= exact * 1e-12, "{got} vs {exact}");
+}
