@@ -11,12 +11,12 @@
 //! Run: `cargo run --example field_day`
 
 use hosttests::sim::{Rng, SimPin};
-use photon_ledger::exposure::display::{dose_line, solar_line};
-use photon_ledger::exposure::{
+use photon_ledger::control::exposure::display::{dose_line, solar_line};
+use photon_ledger::control::exposure::{
     ExposureConfig, ExposureMonitor, SamplingPlan, SolarMonitor, WeightFactor,
 };
 use photon_ledger::prelude::*;
-use photon_ledger::weighting::uv_hazard;
+use photon_ledger::spectral::weighting::uv_hazard;
 
 const HZ: u32 = 1000;
 const S: u32 = HZ;
@@ -111,7 +111,7 @@ fn main() -> Result<(), String> {
     };
     println!(
         "field day: rolling window 8 h in 10-min buckets = {} bytes of RAM",
-        core::mem::size_of::<photon_ledger::exposure::RollingWindow<49>>()
+        core::mem::size_of::<photon_ledger::control::exposure::RollingWindow<49>>()
     );
 
     let mut rng = Rng::new(2026);

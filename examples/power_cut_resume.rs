@@ -12,8 +12,8 @@ use core::convert::Infallible;
 use hosttests::flash::SimFlash;
 use photon_ledger::journal::checkpoint::{full_scale_irradiance, resume_session};
 use photon_ledger::journal::export::export_csv;
+use photon_ledger::journal::record::{Body, CalibrationId, EventCode, SessionOutcome};
 use photon_ledger::prelude::*;
-use photon_ledger::record::{Body, CalibrationId, EventCode, SessionOutcome};
 
 type Flash = SimFlash<1, 4, 1024>;
 

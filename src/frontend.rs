@@ -19,8 +19,8 @@
 //! as a value. For a unipolar converter the bottom rail is a legitimate dark reading and is not
 //! flagged.
 
+use crate::acquire::reading::{RangeIndex, Reading};
 use crate::quantity::{Current, Transimpedance, Voltage};
-use crate::reading::{RangeIndex, Reading};
 
 /// The largest number of amplifier ranges a front end can describe.
 pub const MAX_RANGES: usize = 4;
@@ -329,7 +329,7 @@ impl FrontEnd {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::reading::Ticks;
+    use crate::acquire::reading::Ticks;
 
     fn adc12() -> AdcSpec {
         AdcSpec {

@@ -10,58 +10,63 @@
 //!
 //! ## The pipeline, stage by stage
 //!
+//! One folder per stage, in the order a reading flows through them:
+//!
 //! ```text
 //!  photodiode ─ transimpedance amp (ranges) ─ ADC
 //!        │
-//!  reading       raw code + amplifier range + timestamp (ticks)      PhotodiodeAdc (nb)
-//!  autorange     range choice with hysteresis, select pins           OutputPin
-//!  frontend      code → net code → volts → photocurrent; saturation
-//!  plausibility  stuck / pinned codes, negative current, rate, dark drift, flapping
-//!  band          band shape → photons per joule                      (configuration time)
-//!  spectrum      tables, sources, detector → W/m² per A, mismatch F*  (configuration time)
-//!  weighting     action spectra → weighted fractions, UVI, SED       (configuration time)
-//!  calibration   calibration record: CRC-sealed format, expiry
-//!  irradiance    photocurrent → W/m²; the Meter joins every stage
-//!  dose          exact integer trapezoid integral, thresholds in integer units
-//!  session       target, tolerance, enable/alarm outputs, phases
-//!  curing        curing station: lag anticipation, window, interlock, part records
-//!  exposure      personal exposure: rolling 8 h window, warnings, UVI/SED, display lines
-//!  photochem     photons into and absorbed by a vessel, quantum yield, actinometry
-//!  record        the on-flash record format (versioned contract)
-//!  journal       power-loss-safe log on NOR flash, checkpoints, resume, CSV export
+//!  acquire/      reading: raw code + amplifier range + timestamp     PhotodiodeAdc (nb)
+//!                autorange: range choice with hysteresis             OutputPin
+//!  frontend      code → net code (once per reading: Sample) → volts → photocurrent
+//!  spectral/     band, spectrum, weighting → constant factors        (configuration time)
+//!  irradiance/   photocurrent → W/m²: the Meter; calibration records (CRC, expiry)
+//!  dose/         the one exact integer integral; thresholds in integer units
+//!  time          the one timing policy and the 64-bit tick base
+//!  control/      the shared safe-state pin layer and the controllers:
+//!                session, curing/, exposure/, plausibility
+//!  photochem/    photons into and absorbed by a vessel, quantum yield, actinometry
+//!  journal/      record format, power-loss-safe log on NOR flash, checkpoints, export
 //! ```
 //!
-//! **Acquire.** [`reading`] defines the [`PhotodiodeAdc`](reading::PhotodiodeAdc) trait (one
-//! non-blocking method) and the [`Reading`](reading::Reading) it yields once the caller stamps
-//! it with a tick count, with adapters for a closure and (feature `ads1x1x`) for the ADS1x1x
-//! I²C converters through their maintained driver. [`autorange`] picks the amplifier range and
+//! **Acquire.** [`acquire::reading`] defines the
+//! [`PhotodiodeAdc`](acquire::reading::PhotodiodeAdc) trait (one non-blocking method) and the
+//! [`Reading`](acquire::reading::Reading) it yields once the caller stamps it with a tick
+//! count, with adapters for a closure and (feature `ads1x1x`) for the ADS1x1x I²C converters
+//! through their maintained driver. [`acquire::autorange`] picks the amplifier range and
 //! drives the analog switch.
 //!
-//! **Convert.** [`frontend`] validates the converter and amplifier description and gives the
-//! net (dark-corrected) code, saturation flags, volts and photocurrent; [`plausibility`]
-//! checks that the chain is alive. [`band`] reduces a line or an LED band to photons per
-//! joule; [`spectrum`] and [`weighting`] do the configuration-time spectral integrals
-//! (tabulated sources, detector tables, spectral mismatch, CIE erythema, ICNIRP S(λ), UV-A)
-//! into constant factors; [`calibration`] is the sealed calibration record with its expiry
-//! check. [`irradiance`] turns photocurrent into W/m², and its
-//! [`Meter`](irradiance::Meter) combines all configuration into per-range constants.
+//! **Convert.** [`frontend`] validates the converter and amplifier description and computes
+//! each reading's net (dark-corrected) code once ([`Sample`](frontend::Sample)), with
+//! saturation flags, volts and photocurrent. [`spectral`] does the configuration-time work:
+//! [`band`](spectral::band) reduces a line or an LED band to photons per joule;
+//! [`spectrum`](spectral::spectrum) and [`weighting`](spectral::weighting) integrate
+//! tabulated sources, detector tables, spectral mismatch and the action spectra (CIE
+//! erythema, ICNIRP S(λ), UV-A) into constant factors. [`irradiance`] turns photocurrent into
+//! W/m²: its [`Meter`](irradiance::Meter) combines all configuration into per-range
+//! constants, and [`irradiance::calibration`] is the sealed calibration record with its
+//! expiry check.
 //!
 //! **Integrate.** [`dose`] holds the [`Integrator`](dose::Integrator): integer sums, one
-//! segment per range, thresholds pre-converted to integer units, explicit timing faults. Every
-//! dose unit is a constant times its one integral.
+//! segment per range, thresholds pre-converted to integer units, gaps charged conservatively
+//! beside the measured dose. Every dose unit is a constant times its one integral. [`time`]
+//! is the one timing policy (repeats, backwards steps, gaps, forward jumps) and the 64-bit
+//! clock every controller shares.
 //!
-//! **Control.** [`session`] is the basic dose-controlled exposure
-//! ([`Session`](session::Session): target in J/m², mol/m² or mol, tolerance, phases, outputs,
-//! progress and time to target). [`curing`] is the curing-station controller (actuator-lag
-//! anticipation, irradiance window, interlock monitor, light-off check, lamp ageing, a record
-//! per part). [`exposure`] is the personal exposure monitor (rolling window, warnings with
-//! hysteresis, latched alarm, UV index, SED). [`photochem`] turns chemistry targets (absorbed
-//! einstein, conversion) into radiant-exposure targets and computes quantum yields and
-//! actinometric calibrations.
+//! **Control.** [`control`] holds the safe-state sequence every controller drives its pins
+//! with, and the controllers, each a policy over the one integral:
+//! [`session`](control::session) is the basic dose-controlled exposure
+//! ([`Session`](control::session::Session): target in J/m², mol/m² or mol, tolerance, phases,
+//! outputs, progress and time to target); [`curing`](control::curing) is the curing-station
+//! controller (actuator-lag anticipation, irradiance window, interlock monitor, light-off
+//! check, lamp ageing, a record per part); [`exposure`](control::exposure) is the personal
+//! exposure monitor (exact rolling window, warnings with hysteresis, latched alarm, UV index,
+//! SED); [`plausibility`](control::plausibility) checks that the chain is alive.
+//! [`photochem`] turns chemistry targets (absorbed einstein, conversion) into
+//! radiant-exposure targets and computes quantum yields and actinometric calibrations.
 //!
-//! **Record.** [`record`] is the on-flash record format (byte layout, CRC-32, version rule);
-//! [`journal`] is the session journal on NOR flash (`embedded-storage`): it survives a power
-//! cut at any byte, recovers the open session and resumes with a conservative dose.
+//! **Record.** [`journal`] is the session journal on NOR flash (`embedded-storage`): its
+//! [`record`](journal::record) format (byte layout, CRC-32, version rule), a log that
+//! survives a power cut at any byte, recovery of the open session and a conservative resume.
 //!
 //! Physical quantities are newtypes with the unit in every name ([`quantity`]). Time is
 //! always an argument: the library never reads a clock.
@@ -135,40 +140,32 @@
 )]
 #![cfg_attr(test, allow(clippy::unwrap_used, clippy::indexing_slicing))]
 
-pub mod autorange;
-pub mod band;
-pub mod calibration;
+pub mod quantity;
+pub mod time;
+
+pub mod acquire;
 pub mod control;
-pub mod curing;
 pub mod dose;
-pub mod exposure;
 pub mod frontend;
 pub mod irradiance;
 pub mod journal;
 pub mod photochem;
-pub mod plausibility;
-pub mod quantity;
-pub mod reading;
-pub mod record;
-pub mod session;
-pub mod spectrum;
-pub mod time;
-pub mod weighting;
+pub mod spectral;
 
 #[cfg(test)]
 mod test_support;
 
-#[cfg(feature = "ads1x1x")]
-pub mod ads1x1x_adc;
-
 /// The types most firmware needs, in one import.
 pub mod prelude {
-    pub use crate::autorange::{Autorange, AutorangeConfig, Decision};
-    pub use crate::band::{Band, BandFactors};
-    pub use crate::curing::{
+    pub use crate::acquire::autorange::{Autorange, AutorangeConfig, Decision};
+    pub use crate::acquire::reading::{FnAdc, PhotodiodeAdc, RangeIndex, Reading, TickRate, Ticks};
+    pub use crate::control::curing::{
         ActuatorLag, CuringConfig, CuringController, CuringFault, CuringPhase, Events, FallPoint,
         FallProfile, IrradianceLimit, IrradianceWindow, LampReference, LightOffCheck, PartId,
         PartRecord, StopPolicy, StopReason,
+    };
+    pub use crate::control::session::{
+        ActiveLevel, DoseAmount, Fault, Outcome, Phase, Progress, Session, SessionConfig,
     };
     pub use crate::dose::{Integrator, Rounding, SampleError};
     pub use crate::frontend::{AdcSpec, AmplifierRange, CodeFault, Coding, FrontEnd, Sample};
@@ -182,14 +179,11 @@ pub mod prelude {
         PhotonIrradiance, RadiantExposure, Responsivity, Seconds, Transimpedance, Voltage,
         Wavelength,
     };
-    pub use crate::reading::{FnAdc, PhotodiodeAdc, RangeIndex, Reading, TickRate, Ticks};
-    pub use crate::session::{
-        ActiveLevel, DoseAmount, Fault, Outcome, Phase, Progress, Session, SessionConfig,
-    };
-    pub use crate::spectrum::{
+    pub use crate::spectral::band::{Band, BandFactors};
+    pub use crate::spectral::spectrum::{
         Detector, IntegrationRule, Source, SpectralFactors, Spectrum, SpectrumRef, WavelengthRange,
     };
-    pub use crate::weighting::{
+    pub use crate::spectral::weighting::{
         FactorSet, UvBand, UvBandEdges, UvIndex, WeightedExposure, WeightedIrradiance, Weighting,
         WeightingKind,
     };

@@ -467,7 +467,7 @@ impl IrradiancePerCurrent {
 }
 
 /// A duration in seconds, for read-out and configuration. Time on the per-sample path is
-/// always in ticks ([`crate::reading::Ticks`]).
+/// always in ticks ([`crate::acquire::reading::Ticks`]).
 #[derive(Debug, Clone, Copy, PartialEq, PartialOrd, Default)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Seconds(f64);

@@ -1,10 +1,10 @@
 //! Shared fixtures for the unit tests (compiled only for `cargo test`).
 
-use crate::band::Band;
+use crate::acquire::reading::TickRate;
 use crate::frontend::{AdcSpec, AmplifierRange, Coding, FrontEnd};
 use crate::irradiance::{Calibration, Meter};
 use crate::quantity::{IrradiancePerCurrent, Transimpedance, Voltage, Wavelength};
-use crate::reading::TickRate;
+use crate::spectral::band::Band;
 
 /// A meter with round numbers: 1 W/m² per net code in range 0, 10 W/m² per code in range 1,
 /// 1000 ticks/s, a line at `nm`.

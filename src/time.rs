@@ -31,7 +31,7 @@
 //! counting. A counter that truly runs backwards by more than `max_gap` cannot be told from a
 //! forward jump and is charged as a gap: the error is always towards counting more.
 
-pub use crate::reading::{TickRate, Ticks};
+pub use crate::acquire::reading::{TickRate, Ticks};
 
 /// How one timestamp follows the previous one. See the [module documentation](self).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

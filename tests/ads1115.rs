@@ -7,7 +7,7 @@
 use embedded_hal::i2c::ErrorKind;
 use embedded_hal_mock::eh1::digital::{Mock as PinMock, State, Transaction as Pin};
 use embedded_hal_mock::eh1::i2c::{Mock as I2cMock, Transaction as I2c};
-use photon_ledger::ads1x1x_adc::Ads1x1xAdc;
+use photon_ledger::acquire::ads1x1x_adc::Ads1x1xAdc;
 use photon_ledger::prelude::*;
 
 const ADDR: u8 = 0b100_1000;

@@ -8,7 +8,7 @@ use embedded_hal_mock::eh1::MockError;
 use hosttests::lamp_curing::{
     demo_meter, run_part, Actuator, LedArray, Photodiode, RunOptions, SimPins, Station, DEMO_DARK,
 };
-use photon_ledger::curing::{CuringError, Refusal, SampleUse, TimerOutcome};
+use photon_ledger::control::curing::{CuringError, Refusal, SampleUse, TimerOutcome};
 use photon_ledger::prelude::*;
 
 /// 1 W/m² (0.1 mW/cm²) per code, 1000 ticks per second: 16-bit unipolar ADC with a 65.536 V

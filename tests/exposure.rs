@@ -5,13 +5,13 @@ mod common;
 use common::{meter, reading};
 use embedded_hal_mock::eh1::digital::{Mock as PinMock, State, Transaction as Pin};
 use hosttests::sim::SimPin;
-use photon_ledger::exposure::display::{dose_line, solar_line};
-use photon_ledger::exposure::{
+use photon_ledger::control::exposure::display::{dose_line, solar_line};
+use photon_ledger::control::exposure::{
     ExposureConfig, ExposureConfigError, ExposureMonitor, ReadingIssue, RollingWindow,
     SolarMonitor, WeightFactor,
 };
 use photon_ledger::prelude::*;
-use photon_ledger::weighting::{
+use photon_ledger::spectral::weighting::{
     TimeLimit, UvIndexCategory, UvaEyeRule, WeightedIrradiance, WeightingKind,
 };
 
@@ -427,7 +427,7 @@ fn display_lines_fit_and_read_right() {
 
 #[test]
 fn sampling_plan_speeds_up_on_change() {
-    let plan = photon_ledger::exposure::SamplingPlan {
+    let plan = photon_ledger::control::exposure::SamplingPlan {
         slow_ticks: 10 * S,
         fast_ticks: S,
         change: 0.2,

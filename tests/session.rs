@@ -5,8 +5,8 @@ mod common;
 use common::{config, meter, reading};
 use embedded_hal_mock::eh1::digital::{Mock as PinMock, State, Transaction as Pin};
 use embedded_hal_mock::eh1::MockError;
+use photon_ledger::control::session::{Ignored, SessionConfigError};
 use photon_ledger::prelude::*;
-use photon_ledger::session::{Ignored, SessionConfigError};
 
 fn io_error() -> MockError {
     MockError::Io(std::io::ErrorKind::Other)
@@ -312,7 +312,7 @@ fn counter_wrap_gives_the_same_stop() {
 #[test]
 fn one_sample_serves_every_stage_and_the_dark_offset_lives_in_the_meter() {
     use hosttests::sim::SimPin;
-    use photon_ledger::plausibility::{Plausibility, PlausibilityConfig};
+    use photon_ledger::control::plausibility::{Plausibility, PlausibilityConfig};
     let m = meter();
     let mut plaus = Plausibility::new(
         &m,

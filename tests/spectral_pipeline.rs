@@ -1,13 +1,13 @@
 //! End to end: a spectral configuration feeds the meter and the dose integrator, and every
 //! weighted read-out is a constant times the one radiant-exposure integral.
 
-use photon_ledger::calibration::{
+use photon_ledger::dose::{Integrator, Rounding};
+use photon_ledger::irradiance::calibration::{
     accept, CalibrationRecord, CalibrationSource, Day, ExpiryPolicy, RangeCalibration, Temperature,
 };
-use photon_ledger::dose::{Integrator, Rounding};
 use photon_ledger::prelude::*;
-use photon_ledger::spectrum::corrected_certificate;
-use photon_ledger::weighting::{TimeLimit, WeightedExposure};
+use photon_ledger::spectral::spectrum::corrected_certificate;
+use photon_ledger::spectral::weighting::{TimeLimit, WeightedExposure};
 
 fn front_end() -> FrontEnd {
     FrontEnd::new(
@@ -133,7 +133,7 @@ fn certificate_under_one_source_used_under_another() {
         })
         .unwrap();
     let record = CalibrationRecord {
-        serial: photon_ledger::calibration::serial("DEMO-1").unwrap(),
+        serial: photon_ledger::irradiance::calibration::serial("DEMO-1").unwrap(),
         calibrated_on: Day(100),
         due: Day(465),
         factor: IrradiancePerCurrent::from_w_per_m2_per_a(4.0e6),

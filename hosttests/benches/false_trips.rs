@@ -11,7 +11,7 @@
 use std::time::Instant;
 
 use hosttests::sim::{Adc, Amplifier, Photodiode, SimSensor, WarmingLed};
-use photon_ledger::plausibility::{Plausibility, PlausibilityConfig};
+use photon_ledger::control::plausibility::{Plausibility, PlausibilityConfig};
 use photon_ledger::prelude::*;
 
 fn main() {

@@ -19,7 +19,7 @@ use std::convert::Infallible;
 use std::rc::Rc;
 
 use embedded_hal::digital::{ErrorType, InputPin, OutputPin};
-use photon_ledger::curing::{CuringConfigError, CuringError};
+use photon_ledger::control::curing::{CuringConfigError, CuringError};
 use photon_ledger::prelude::*;
 
 /// An LED array seen from the part: irradiance vs thermal state and age.

@@ -8,7 +8,7 @@ use std::cell::Cell;
 use std::convert::Infallible;
 use std::rc::Rc;
 
-use photon_ledger::reading::PhotodiodeAdc;
+use photon_ledger::acquire::reading::PhotodiodeAdc;
 
 /// A small deterministic generator (xorshift64*), enough for simulated noise.
 #[derive(Debug, Clone)]

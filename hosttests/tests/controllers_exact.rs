@@ -14,11 +14,13 @@ use hosttests::sim::SimPin;
 use num_bigint::BigInt;
 use num_rational::BigRational;
 use num_traits::{Signed, ToPrimitive, Zero};
-use photon_ledger::curing::{
+use photon_ledger::control::curing::{
     ActuatorLag, CuringConfig, CuringController, CuringPhase, IrradianceWindow, LightOffCheck,
     PartId, StopPolicy,
 };
-use photon_ledger::exposure::{ExposureConfig, ExposureMonitor, WeightFactor, WeightedDose};
+use photon_ledger::control::exposure::{
+    ExposureConfig, ExposureMonitor, WeightFactor, WeightedDose,
+};
 use photon_ledger::prelude::*;
 use proptest::prelude::*;
 

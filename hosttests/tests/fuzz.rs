@@ -19,23 +19,25 @@ use hosttests::fixtures::round_meter;
 use hosttests::flash::SimFlash;
 use hosttests::review::config::{self as review_config, ReviewConfig};
 use hosttests::review::samples::SampleReader;
-use photon_ledger::autorange::AutorangeError;
-use photon_ledger::calibration::{
+use photon_ledger::acquire::autorange::AutorangeError;
+use photon_ledger::control::plausibility::{
+    Plausibility, PlausibilityConfig, PlausibilityConfigError,
+};
+use photon_ledger::control::session::SessionConfigError;
+use photon_ledger::frontend::FrontEndError;
+use photon_ledger::irradiance::calibration::{
     self, accept, check, AcceptError, CalibrationRecord, CalibrationSource, Check, Day,
     ExpiryPolicy, RangeCalibration, RecordError, Temperature, RECORD_LEN,
 };
-use photon_ledger::frontend::FrontEndError;
 use photon_ledger::journal::export::{export_csv, CSV_HEADER};
-use photon_ledger::photochem::absorption::Absorption;
-use photon_ledger::photochem::units::PhotonFluxPerIrradiance;
-use photon_ledger::photochem::units::{Absorbance, ChemicalAmount, QuantumYield, Transmission};
-use photon_ledger::plausibility::{Plausibility, PlausibilityConfig, PlausibilityConfigError};
-use photon_ledger::prelude::*;
-use photon_ledger::record::{
+use photon_ledger::journal::record::{
     Body, CalibrationId, Checkpoint, ConfigDigest, Event, EventCode, SessionEnd, SessionId,
     SessionOutcome, SessionStart, StoredExposure, StoredIrradiance, StoredWavelength,
 };
-use photon_ledger::session::SessionConfigError;
+use photon_ledger::photochem::absorption::Absorption;
+use photon_ledger::photochem::units::PhotonFluxPerIrradiance;
+use photon_ledger::photochem::units::{Absorbance, ChemicalAmount, QuantumYield, Transmission};
+use photon_ledger::prelude::*;
 use proptest::prelude::*;
 use proptest::test_runner::{Config, TestRunner};
 

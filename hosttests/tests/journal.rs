@@ -6,21 +6,21 @@
 //! against outside reference values.
 
 use hosttests::flash::{SimError, SimFlash};
-use photon_ledger::band::Band;
+use photon_ledger::acquire::reading::{RangeIndex, TickRate, Ticks};
 use photon_ledger::dose::Integrator;
 use photon_ledger::frontend::{AdcSpec, AmplifierRange, Coding, FrontEnd};
 use photon_ledger::irradiance::{Calibration, Meter};
 use photon_ledger::journal::checkpoint::{full_scale_irradiance, CheckpointConfig, Checkpointer};
-use photon_ledger::journal::{
-    Journal, JournalConfig, JournalError, Maintenance, OpenSession, Retention, WordRule,
-};
-use photon_ledger::quantity::{Area, Responsivity, Transimpedance, Voltage, Wavelength};
-use photon_ledger::reading::{RangeIndex, TickRate, Ticks};
-use photon_ledger::record::{
+use photon_ledger::journal::record::{
     Body, CalibrationId, Checkpoint, ConfigDigest, Event, EventCode, Record, SessionEnd, SessionId,
     SessionOutcome, SessionStart, StoredExposure, StoredIrradiance, StoredWavelength, WarningCode,
     MAX_RECORD_LEN,
 };
+use photon_ledger::journal::{
+    Journal, JournalConfig, JournalError, Maintenance, OpenSession, Retention, WordRule,
+};
+use photon_ledger::quantity::{Area, Responsivity, Transimpedance, Voltage, Wavelength};
+use photon_ledger::spectral::band::Band;
 use proptest::prelude::*;
 
 type Small = SimFlash<1, 4, 1024>;
@@ -343,7 +343,7 @@ fn power_cut_at_every_byte_of_a_representative_session() {
         sweep.horizon_j,
         sweep
             .journal
-            .slot_len(photon_ledger::record::HEADER_LEN + 36 + 4),
+            .slot_len(photon_ledger::journal::record::HEADER_LEN + 36 + 4),
         sweep.reprogrammed_after_tear,
     );
     assert!(checkpoints >= 1000);
@@ -377,17 +377,17 @@ fn representative_session(config: JournalConfig, strict: bool, n: u32) -> (Sweep
     let cfg = CheckpointConfig::one_second(rate, 20, e_max);
     let mut cp = Checkpointer::new(cfg).unwrap();
     let mut sweep = Sweep::new(cp.horizon().j_per_m2(), config, strict);
-    let session_cfg = photon_ledger::session::SessionConfig {
-        target: photon_ledger::session::DoseAmount::RadiantExposure(
+    let session_cfg = photon_ledger::control::session::SessionConfig {
+        target: photon_ledger::control::session::DoseAmount::RadiantExposure(
             photon_ledger::quantity::RadiantExposure::from_j_per_m2(1e6),
         ),
-        tolerance: photon_ledger::session::DoseAmount::RadiantExposure(
+        tolerance: photon_ledger::control::session::DoseAmount::RadiantExposure(
             photon_ledger::quantity::RadiantExposure::from_j_per_m2(1.0),
         ),
         max_gap_ticks: 20,
         max_unusable_run: 0,
-        enable_level: photon_ledger::session::ActiveLevel::High,
-        alarm_level: photon_ledger::session::ActiveLevel::High,
+        enable_level: photon_ledger::control::session::ActiveLevel::High,
+        alarm_level: photon_ledger::control::session::ActiveLevel::High,
     };
 
     let mut checkpoints = 0u32;
@@ -409,7 +409,7 @@ fn representative_session(config: JournalConfig, strict: bool, n: u32) -> (Sweep
             let code = code_at(n);
             let net = meter
                 .front_end()
-                .net_code(&photon_ledger::reading::Reading {
+                .net_code(&photon_ledger::acquire::reading::Reading {
                     code,
                     range: RangeIndex(0),
                     at: Ticks(t),
@@ -554,7 +554,7 @@ fn a_newer_major_format_is_refused_not_erased() {
         .find(|&b| img[b..b + 2] == [0x50, 0x4A])
         .unwrap();
     img[base + 2] = 0x20;
-    let crc = photon_ledger::record::stored_crc(&img[base..base + 12]);
+    let crc = photon_ledger::journal::record::stored_crc(&img[base..base + 12]);
     img[base + 12..base + 16].copy_from_slice(&crc.to_le_bytes());
     let before = img.clone();
     let r = Journal::mount(Tiny::from_image(img), tiny_config()).map_err(|e| e.error);
@@ -1379,7 +1379,7 @@ fn sector_layout(img: &[u8]) -> Vec<Option<(u32, u32, Vec<u32>)>> {
     let u32_at = |b: &[u8], at: usize| u32::from_le_bytes(b[at..at + 4].try_into().unwrap());
     img.chunks(512)
         .map(|s| {
-            let crc_ok = photon_ledger::record::stored_crc(&s[..12]) == u32_at(s, 12);
+            let crc_ok = photon_ledger::journal::record::stored_crc(&s[..12]) == u32_at(s, 12);
             if s[..2] != [0x50, 0x4A] || !crc_ok {
                 return None;
             }
@@ -1513,10 +1513,10 @@ fn mount_never_reuses_a_record_number_a_newer_header_claims() {
     // Sector 1's header, programmed by hand: sector sequence 2, first record 4.
     let mut hdr = [0u8; 16];
     hdr[..2].copy_from_slice(&[0x50, 0x4A]);
-    hdr[2] = photon_ledger::record::VERSION;
+    hdr[2] = photon_ledger::journal::record::VERSION;
     hdr[4..8].copy_from_slice(&2u32.to_le_bytes());
     hdr[8..12].copy_from_slice(&j.next_seq().to_le_bytes());
-    let crc = photon_ledger::record::stored_crc(&hdr[..12]);
+    let crc = photon_ledger::journal::record::stored_crc(&hdr[..12]);
     hdr[12..16].copy_from_slice(&crc.to_le_bytes());
     j.flash_mut().write(512, &hdr).unwrap();
     // The journal does not know that header: record 4 goes to sector 0.

@@ -5,8 +5,8 @@
 //! (`accrual_regression_case`), so it is checked even if the generator changes.
 
 use hosttests::fixtures::round_meter;
+use photon_ledger::control::exposure::{Accrued, WeightFactor, WeightedDose};
 use photon_ledger::dose::SampleError;
-use photon_ledger::exposure::{Accrued, WeightFactor, WeightedDose};
 use photon_ledger::frontend::MAX_RANGES;
 use photon_ledger::prelude::*;
 use proptest::prelude::*;

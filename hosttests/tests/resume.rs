@@ -8,20 +8,20 @@ use core::convert::Infallible;
 
 use hosttests::flash::SimFlash;
 use hosttests::image::image_to_csv;
-use photon_ledger::band::Band;
+use photon_ledger::acquire::reading::{RangeIndex, Reading, TickRate, Ticks};
+use photon_ledger::control::session::{ActiveLevel, DoseAmount, Phase, Session, SessionConfig};
 use photon_ledger::frontend::{AdcSpec, AmplifierRange, Coding, FrontEnd};
 use photon_ledger::irradiance::{Calibration, Meter};
 use photon_ledger::journal::checkpoint::{
     full_scale_irradiance, resume_session, CheckpointConfig, Checkpointer, ResumeError,
 };
 use photon_ledger::journal::export::export_csv;
+use photon_ledger::journal::record::{Body, CalibrationId, EventCode, SessionOutcome};
 use photon_ledger::journal::{Journal, JournalConfig, Retention};
 use photon_ledger::quantity::{
     Area, RadiantExposure, Responsivity, Transimpedance, Voltage, Wavelength,
 };
-use photon_ledger::reading::{RangeIndex, Reading, TickRate, Ticks};
-use photon_ledger::record::{Body, CalibrationId, EventCode, SessionOutcome};
-use photon_ledger::session::{ActiveLevel, DoseAmount, Phase, Session, SessionConfig};
+use photon_ledger::spectral::band::Band;
 
 type Flash = SimFlash<1, 4, 1024>;
 

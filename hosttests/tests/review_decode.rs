@@ -21,14 +21,14 @@ use hosttests::review::decode::{
 use hosttests::review::demo_image::{demo_journal, DemoFlash, DEMO_DEVICE_ID, DEMO_EPOCH_UTC};
 use hosttests::review::register::{Grouping, Register};
 use hosttests::review::ReviewError;
+use photon_ledger::acquire::reading::Ticks;
 use photon_ledger::journal::export::export_csv;
-use photon_ledger::journal::{Journal, JournalConfig, Retention};
-use photon_ledger::reading::Ticks;
-use photon_ledger::record::{
+use photon_ledger::journal::record::{
     self, Body, CalibrationId, Checkpoint, ConfigDigest, Event, EventCode, FaultCode, Record,
     SessionEnd, SessionId, SessionOutcome, SessionStart, StoredExposure, StoredIrradiance,
     StoredWavelength,
 };
+use photon_ledger::journal::{Journal, JournalConfig, Retention};
 
 const BIN: &str = env!("CARGO_BIN_EXE_photon-review");
 

@@ -34,14 +34,14 @@
 
 use embedded_hal::digital::OutputPin;
 
+use crate::acquire::reading::{RangeIndex, TickRate, Ticks};
+use crate::control::session::{to_exposure, Session, SessionConfig};
 use crate::irradiance::Meter;
-use crate::quantity::{Irradiance, RadiantExposure};
-use crate::reading::{RangeIndex, TickRate, Ticks};
-use crate::record::{
+use crate::journal::record::{
     CalibrationId, Checkpoint, ConfigDigest, Event, EventCode, SessionEnd, SessionId,
     SessionOutcome, SessionStart, StoredExposure, StoredIrradiance, StoredWavelength,
 };
-use crate::session::{to_exposure, Session, SessionConfig};
+use crate::quantity::{Irradiance, RadiantExposure};
 
 use super::OpenSession;
 
@@ -408,7 +408,7 @@ pub enum ResumeError {
         /// Digest of the current configuration.
         current: ConfigDigest,
     },
-    /// The session is not in [`Phase::Ready`](crate::session::Phase::Ready).
+    /// The session is not in [`Phase::Ready`](crate::control::session::Phase::Ready).
     NotReady,
 }
 
@@ -438,7 +438,7 @@ pub struct Resumed {
     pub target_met: bool,
 }
 
-/// Resume a session (in [`Phase::Ready`](crate::session::Phase::Ready)) from a recovered
+/// Resume a session (in [`Phase::Ready`](crate::control::session::Phase::Ready)) from a recovered
 /// one: checks the configuration digest, then preloads the recovered bound.
 ///
 /// # Errors

@@ -21,7 +21,7 @@ use core::fmt::Write;
 use embedded_storage::nor_flash::NorFlash;
 
 use super::{Journal, JournalError};
-use crate::record::{
+use crate::journal::record::{
     Body, EventCode, FaultCode, Record, SessionOutcome, SessionStart, StoredExposure,
     StoredIrradiance, WarningCode,
 };
@@ -249,8 +249,8 @@ pub fn outcome_name<W: Write>(out: &mut W, o: SessionOutcome) -> core::fmt::Resu
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::reading::Ticks;
-    use crate::record::{Checkpoint, SessionId};
+    use crate::acquire::reading::Ticks;
+    use crate::journal::record::{Checkpoint, SessionId};
 
     struct S(heapless::String<512>);
     impl Write for S {

@@ -1,6 +1,6 @@
 //! Journal: the session log on NOR flash that survives a power cut at any byte.
 //!
-//! The journal appends [records](crate::record) to a ring of erase sectors through the
+//! The journal appends [records](crate::journal::record) to a ring of erase sectors through the
 //! blocking `embedded-storage` 0.3 traits ([`NorFlash`] / [`ReadNorFlash`]). After a reset,
 //! [`Journal::mount`] finds the last valid record and the open session, and
 //! [`checkpoint`] turns the recovered checkpoint into the dose to resume from — never below
@@ -136,11 +136,12 @@
 
 pub mod checkpoint;
 pub mod export;
+pub mod record;
 
 use embedded_storage::nor_flash::{NorFlash, ReadNorFlash};
 
-use crate::record::{
-    self, Body, Checkpoint, Record, RecordError, RecordView, SessionId, SessionStart, CRC_LEN,
+use record::{
+    Body, Checkpoint, Record, RecordError, RecordView, SessionId, SessionStart, CRC_LEN,
     HEADER_LEN, MAX_RECORD_LEN, VERSION, VERSION_MAJOR,
 };
 
@@ -525,7 +526,7 @@ pub struct MountReport {
     pub torn_tail: bool,
 }
 
-pub use crate::record::OpenSession;
+pub use crate::journal::record::OpenSession;
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]

@@ -6,8 +6,8 @@
 //! `1 − 10^(−A)` is evaluated as `−expm1(−A ln 10)`, which keeps full relative precision for
 //! small A.
 
-use crate::band::Band;
 use crate::quantity::Wavelength;
+use crate::spectral::band::Band;
 
 use super::grid::{band_mean, BandNodes, ABSORPTION_GRID_POINTS};
 use super::units::{

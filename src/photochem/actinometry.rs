@@ -52,10 +52,10 @@
 //! below the spacing of the tables. Between points the tables are interpolated linearly, but
 //! never across a gap wider than the table's `max_gap_nm`.
 
-use crate::band::{Band, BandFactors};
 use crate::quantity::{
     IrradiancePerCurrent, PhotonAmount, PhotonFlux, RadiantExposure, Seconds, Wavelength,
 };
+use crate::spectral::band::{Band, BandFactors};
 
 use super::grid::BandNodes;
 use super::units::{

@@ -2,15 +2,15 @@
 //! actinometer quantum yield).
 //!
 //! [`Band::Line`] is one node of weight 1. [`Band::Led`] uses the same shape as
-//! [`crate::band`] — a Gaussian in photon energy whose width follows from the half-maximum
+//! [`crate::spectral::band`] — a Gaussian in photon energy whose width follows from the half-maximum
 //! wavelengths peak ± FWHM/2 — but weighted by **photons** (power ÷ photon energy), truncated
 //! at ±[`ABSORPTION_TRUNCATION_SIGMA`] σ and sampled on [`ABSORPTION_GRID_POINTS`] equally
 //! spaced energies with trapezoid weights. The photon-weighted tail beyond ±4 σ holds about
 //! 6.3e-5 of the photons; a mean of values in [0, 1] (an absorbed fraction) over the truncated
 //! range differs from the full mean by at most that tail share.
 
-use crate::band::{Band, BandFactors};
 use crate::quantity::si;
+use crate::spectral::band::{Band, BandFactors};
 
 use super::PhotochemError;
 

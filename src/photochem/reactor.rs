@@ -4,7 +4,7 @@
 //! Build a [`Reactor`] once from a [`PhotochemConfig`]; convert the target with
 //! [`Reactor::absorbed_target_to_exposure`] or [`Reactor::conversion_target_to_exposure`] and
 //! give the result to the session as
-//! [`DoseAmount::RadiantExposure`](crate::session::DoseAmount). While the run goes, call
+//! [`DoseAmount::RadiantExposure`](crate::control::session::DoseAmount). While the run goes, call
 //! [`Reactor::estimate`] with the session's exposure (`session.progress().exposure`).
 //!
 //! # Rounding
@@ -25,9 +25,9 @@
 //! `photochem` module documentation. [`Reactor::estimate`] is multiplies, adds and a scan of
 //! at most [`DEPLETION_CURVE_POINTS`] nodes — no transcendental function.
 
-use crate::band::{Band, BandFactors};
 use crate::dose::Rounding;
 use crate::quantity::{PhotonAmount, RadiantExposure};
+use crate::spectral::band::{Band, BandFactors};
 
 use super::absorption::{Absorption, Profile, Terms};
 use super::grid::BandNodes;

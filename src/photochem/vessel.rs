@@ -14,8 +14,8 @@
 //! reflection, wall absorption), 0 < t ≤ 1. A factor from actinometry in the same vessel
 //! already contains these losses: use [`Transmission::LOSSLESS`].
 
-use crate::band::{Band, BandFactors};
 use crate::quantity::{Area, Irradiance, PhotonAmount, PhotonFlux, RadiantExposure};
+use crate::spectral::band::{Band, BandFactors};
 
 use super::units::{PhotonFluxPerIrradiance, Transmission};
 use super::{positive, PhotochemError};

@@ -48,11 +48,11 @@
 //! Optional `[exposure]` (personal exposure monitor) and `[solar]` (UV index, SED) tables are
 //! described in CONFIG.md.
 
-use photon_ledger::exposure::{ExposureConfigError, WeightFactor};
+use photon_ledger::control::exposure::{ExposureConfigError, WeightFactor};
+use photon_ledger::control::session::SessionConfigError;
 use photon_ledger::frontend::FrontEndError;
 use photon_ledger::irradiance::{CalibrationError, MeterError};
 use photon_ledger::prelude::*;
-use photon_ledger::session::SessionConfigError;
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 use toml::Spanned;
@@ -503,7 +503,7 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
                     .map_or(raw.calibration.span(), |v| v.span()),
                 "calibration.factor_w_per_m2_per_a",
             ),
-            MeterError::Band(photon_ledger::band::BandError::Wavelength) => (
+            MeterError::Band(photon_ledger::spectral::band::BandError::Wavelength) => (
                 b.line_nm
                     .as_ref()
                     .or(b.peak_nm.as_ref())
@@ -514,7 +514,7 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
                     "band.peak_nm"
                 },
             ),
-            MeterError::Band(photon_ledger::band::BandError::Fwhm) => (
+            MeterError::Band(photon_ledger::spectral::band::BandError::Fwhm) => (
                 b.fwhm_nm.as_ref().map_or(raw.band.span(), |v| v.span()),
                 "band.fwhm_nm",
             ),

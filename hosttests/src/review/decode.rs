@@ -36,18 +36,18 @@ use std::fmt::Write as _;
 use embedded_storage::nor_flash::{
     check_read, ErrorType, NorFlash, NorFlashError, NorFlashErrorKind, ReadNorFlash,
 };
-use photon_ledger::band::{Band, BandFactors};
 use photon_ledger::journal::export::{
     event_name, export_csv, fault_name, outcome_name, ExportError,
+};
+use photon_ledger::journal::record::{
+    Body, Checkpoint, EventCode, Record, RecordError, SessionEnd, SessionOutcome, SessionStart,
+    StoredExposure, StoredIrradiance, MAX_RECORD_LEN, VERSION_MAJOR,
 };
 use photon_ledger::journal::{
     sector_state, ConfigError, Journal, JournalConfig, JournalError, MountReport, OpenSession,
     Retention, ScanItem, ScanStop, SectorState, MAX_READ_SIZE, SECTOR_HEADER_LEN,
 };
-use photon_ledger::record::{
-    Body, Checkpoint, EventCode, Record, RecordError, SessionEnd, SessionOutcome, SessionStart,
-    StoredExposure, StoredIrradiance, MAX_RECORD_LEN, VERSION_MAJOR,
-};
+use photon_ledger::spectral::band::{Band, BandFactors};
 use serde::Serialize;
 use sha2::{Digest, Sha256};
 
@@ -782,7 +782,7 @@ struct SessionAcc {
     last_delivered: Option<StoredExposure>,
     last_checkpoint: Option<Checkpoint>,
     checkpoints: u64,
-    events: Vec<(u32, photon_ledger::record::Event)>,
+    events: Vec<(u32, photon_ledger::journal::record::Event)>,
     end: Option<(u32, SessionEnd)>,
 }
 
@@ -1366,7 +1366,9 @@ fn session_report(
         .map(|(seq, e)| {
             match e.code {
                 EventCode::Fault(f) => faults.push(match f {
-                    photon_ledger::record::FaultCode::Other(c) => format!("other:{c:#04x}"),
+                    photon_ledger::journal::record::FaultCode::Other(c) => {
+                        format!("other:{c:#04x}")
+                    }
                     f => fault_name(f).to_string(),
                 }),
                 EventCode::Resumed => resumed += 1,

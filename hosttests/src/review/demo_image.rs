@@ -18,11 +18,11 @@
 //! [`Geometry::EXAMPLE`](super::decode::Geometry::EXAMPLE).
 
 use photon_ledger::journal::checkpoint::{full_scale_irradiance, CheckpointConfig, Checkpointer};
-use photon_ledger::journal::{Journal, JournalConfig, JournalError, Retention};
-use photon_ledger::prelude::*;
-use photon_ledger::record::{
+use photon_ledger::journal::record::{
     Body, CalibrationId, EventCode, FaultCode, Record, SessionId, SessionOutcome, WarningCode,
 };
+use photon_ledger::journal::{Journal, JournalConfig, JournalError, Retention};
+use photon_ledger::prelude::*;
 
 use super::config::ReviewConfig;
 use super::decode::Geometry;
@@ -123,7 +123,7 @@ fn run_session(
     let got = dev.journal.begin_session(start).map_err(other)?;
     dev.acknowledged.push(Record {
         seq: id.0,
-        body: Body::Start(photon_ledger::record::SessionStart {
+        body: Body::Start(photon_ledger::journal::record::SessionStart {
             session: got,
             ..start
         }),

@@ -3,10 +3,10 @@
 //! Every number comes from the library's own configuration objects (`FrontEnd`, `Meter`,
 //! `BandFactors`, `to_exposure`), i.e. the constants firmware multiplies by.
 
+use photon_ledger::control::session::to_exposure;
 use photon_ledger::prelude::*;
 use photon_ledger::quantity::si;
-use photon_ledger::session::to_exposure;
-use photon_ledger::weighting::UV_INDEX_PER_W_PER_M2;
+use photon_ledger::spectral::weighting::UV_INDEX_PER_W_PER_M2;
 use serde::Serialize;
 
 use super::config::ReviewConfig;

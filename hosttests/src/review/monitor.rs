@@ -3,7 +3,7 @@
 
 use std::convert::Infallible;
 
-use photon_ledger::exposure::{
+use photon_ledger::control::exposure::{
     Changes, ExposureConfig, ExposureConfigError, ExposureMonitor, ShiftTotals, SolarMonitor,
 };
 use photon_ledger::prelude::*;

@@ -39,7 +39,7 @@ use rusqlite::{params, Connection, OptionalExtension};
 use serde::Serialize;
 
 use photon_ledger::journal::export::fault_name;
-use photon_ledger::record::{FaultCode, SessionOutcome};
+use photon_ledger::journal::record::{FaultCode, SessionOutcome};
 
 use super::decode::{decode_file, Geometry, SessionReport};
 use super::error::ReviewError;

@@ -29,7 +29,7 @@ use cortex_m_semihosting::hprintln;
 use panic_semihosting as _;
 use photon_ledger::dose::{Crossed, Step};
 use photon_ledger::prelude::*;
-use photon_ledger::session::Outcome;
+use photon_ledger::control::session::Outcome;
 use photon_ledger_firmware::markers::*;
 use photon_ledger_firmware::{
     curing_config, demo_meter, units_of_mj_per_cm2, Checks, DemoSession, PinState, Reference,

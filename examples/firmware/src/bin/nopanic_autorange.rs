@@ -6,7 +6,7 @@
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
-use photon_ledger::autorange::{Autorange, AutorangeConfig};
+use photon_ledger::acquire::autorange::{Autorange, AutorangeConfig};
 use photon_ledger::prelude::*;
 
 #[path = "../nopanic/common.rs"]

@@ -8,14 +8,14 @@
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
-use photon_ledger::exposure::display::{dose_line, solar_line};
-use photon_ledger::exposure::{
+use photon_ledger::control::exposure::display::{dose_line, solar_line};
+use photon_ledger::control::exposure::{
     ExposureConfig, ExposureMonitor, RollingWindow, SamplingPlan, SolarMonitor, WeightFactor,
     WeightedDose,
 };
-use photon_ledger::plausibility::{Plausibility, PlausibilityConfig};
+use photon_ledger::control::plausibility::{Plausibility, PlausibilityConfig};
 use photon_ledger::prelude::*;
-use photon_ledger::weighting::UvIndexCategory;
+use photon_ledger::spectral::weighting::UvIndexCategory;
 
 #[path = "../nopanic/common.rs"]
 mod common;

@@ -10,17 +10,17 @@
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
-use photon_ledger::calibration::{
+use photon_ledger::irradiance::calibration::{
     accept, check, serial, transfer, CalibrationRecord, CalibrationSource, Day, ExpiryPolicy,
     RangeCalibration, Temperature, TransferInputs, RECORD_LEN,
 };
-use photon_ledger::exposure::WeightFactor;
+use photon_ledger::control::exposure::WeightFactor;
 use photon_ledger::prelude::*;
-use photon_ledger::spectrum::{
+use photon_ledger::spectral::spectrum::{
     air_refractivity, air_to_vacuum, band_integral, corrected_certificate, mercury_air_nm,
     mismatch_factor, weighted_fraction,
 };
-use photon_ledger::weighting::{
+use photon_ledger::spectral::weighting::{
     cie_erythema, uv_hazard, uva_eye_max_time, Interpolation, UvaEyeRule, WeightedExposure,
     WeightedFactor,
 };

@@ -4,7 +4,7 @@
 //! the failure signatures of a photodiode chain; each has its own reason ([`Implausible`]) and
 //! its own configuration, and each is off when its parameter is 0. Firmware runs
 //! [`Plausibility::check`] on every reading and, on an error, drives the safe state (for a
-//! [`crate::session::Session`]: `session.fault(Fault::Implausible(reason))`).
+//! [`crate::control::session::Session`]: `session.fault(Fault::Implausible(reason))`).
 //!
 //! | check | signature | typical cause |
 //! | --- | --- | --- |
@@ -21,9 +21,9 @@
 //! The stuck-code check assumes the converter's noise spans more than one code (σ ≳ 0.5 LSB);
 //! with a quieter chain, identical codes are normal and the check must be left off.
 
+use crate::acquire::reading::{RangeIndex, Reading};
 use crate::frontend::{FrontEnd, MAX_RANGES};
 use crate::irradiance::Meter;
-use crate::reading::{RangeIndex, Reading};
 
 /// Why a reading is not plausible.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -385,11 +385,11 @@ fn code_rails(fe: &FrontEnd) -> (i32, i32) {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::band::Band;
+    use crate::acquire::reading::{TickRate, Ticks};
     use crate::frontend::{AdcSpec, AmplifierRange, Coding};
     use crate::irradiance::Calibration;
     use crate::quantity::{IrradiancePerCurrent, Transimpedance, Voltage, Wavelength};
-    use crate::reading::{TickRate, Ticks};
+    use crate::spectral::band::Band;
 
     /// 1 mW/m² per code in range 0, 10 mW/m² in range 1; 1 kHz; 12-bit unipolar.
     fn meter() -> Meter {

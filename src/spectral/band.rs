@@ -99,7 +99,7 @@ impl BandFactors {
     }
 
     /// Factors from a photons-per-joule value computed elsewhere (for example from a
-    /// tabulated spectrum by [`SpectralFactors`](crate::spectrum::SpectralFactors)).
+    /// tabulated spectrum by [`SpectralFactors`](crate::spectral::spectrum::SpectralFactors)).
     /// `None` unless the value is finite and > 0.
     #[must_use]
     pub fn from_photons_per_j(photons_per_j: f64) -> Option<Self> {

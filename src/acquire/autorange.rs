@@ -17,8 +17,8 @@
 
 use embedded_hal::digital::OutputPin;
 
+use crate::acquire::reading::{RangeIndex, Reading};
 use crate::frontend::{CodeFault, FrontEnd, Sample, MAX_RANGES};
-use crate::reading::{RangeIndex, Reading};
 
 /// Autorange thresholds and settling delay.
 #[derive(Debug, Clone, Copy, PartialEq)]

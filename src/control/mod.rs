@@ -1,7 +1,20 @@
-//! Control: the one fault → safe state → pin sequence that every controller uses.
+//! Control: the controllers — policies over the one integral — and the pin layer they share.
 //!
-//! The [`Session`](crate::session::Session), the
-//! [`CuringController`](crate::curing::CuringController) and the exposure monitors drive
+//! - [`session`]: the basic dose-controlled exposure (target, tolerance, enable and alarm);
+//! - [`curing`]: the curing station (lag anticipation, irradiance window, interlock, part
+//!   records);
+//! - [`exposure`]: personal exposure (rolling window, warnings, latched alarm, UV index, SED);
+//! - [`plausibility`]: checks that the measuring chain is alive, reported to a controller.
+//!
+//! Each feeds readings to a [`dose::Integrator`](crate::dose::Integrator) under the one timing
+//! policy of [`crate::time`], and drives its outputs through this module.
+//!
+//! # The safe-state sequence
+//!
+//! The one fault → safe state → pin sequence that every controller uses.
+//!
+//! The [`Session`](crate::control::session::Session), the
+//! [`CuringController`](crate::control::curing::CuringController) and the exposure monitors drive
 //! their outputs through this module, so "safe state" means the same thing everywhere:
 //!
 //! 1. the source-enable output is driven **inactive first**;
@@ -12,6 +25,11 @@
 //! The pins may have different error types (a GPIO enable beside an expander alarm).
 
 use embedded_hal::digital::OutputPin;
+
+pub mod curing;
+pub mod exposure;
+pub mod plausibility;
+pub mod session;
 
 /// Which logic level means "active" on an output (or "closed" on an interlock input).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]

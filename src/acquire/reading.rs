@@ -124,7 +124,7 @@ impl<T: PhotodiodeAdc + ?Sized> PhotodiodeAdc for &mut T {
 /// Use it for an on-chip ADC whose HAL has its own read call:
 ///
 /// ```
-/// use photon_ledger::reading::{FnAdc, PhotodiodeAdc, RangeIndex, Ticks};
+/// use photon_ledger::acquire::reading::{FnAdc, PhotodiodeAdc, RangeIndex, Ticks};
 /// let mut adc = FnAdc::new(|| -> nb::Result<i32, core::convert::Infallible> { Ok(1234) });
 /// let r = adc.poll_reading(RangeIndex(0), Ticks(10)).unwrap();
 /// assert_eq!(r.code, 1234);

@@ -10,7 +10,7 @@
 //! ```no_run
 //! # fn demo<I: embedded_hal::i2c::I2c>(i2c: I) {
 //! use ads1x1x::{channel, Ads1x1x, TargetAddr};
-//! use photon_ledger::ads1x1x_adc::Ads1x1xAdc;
+//! use photon_ledger::acquire::ads1x1x_adc::Ads1x1xAdc;
 //! let dev = Ads1x1x::new_ads1115(i2c, TargetAddr::default());
 //! let adc = Ads1x1xAdc::new(dev, || channel::DifferentialA0A1);
 //! # let _ = adc; }
@@ -18,7 +18,7 @@
 
 use ads1x1x::{mode, Ads1x1x, ChannelId, ConvertMeasurement};
 
-use crate::reading::PhotodiodeAdc;
+use crate::acquire::reading::PhotodiodeAdc;
 
 /// An ADS1x1x in one-shot mode reading one channel. (The driver's types are not `Debug`.)
 #[allow(missing_debug_implementations)]

@@ -3,7 +3,7 @@
 //!
 //! A photochemist counts photons in moles (einstein) and cares about the photons the sample
 //! **absorbed**. This stage turns the sensor's radiant exposure H (J/m², what the
-//! [`Session`](crate::session::Session) integrates) into those numbers, and turns targets in
+//! [`Session`](crate::control::session::Session) integrates) into those numbers, and turns targets in
 //! chemistry units back into a radiant-exposure target the session can stop at.
 //!
 //! ```text
@@ -98,7 +98,7 @@ pub use reactor::{
     DEPLETION_CURVE_POINTS, DEPLETION_SIMPSON_INTERVALS, DEPLETION_TARGET_MARGIN, MAX_CONVERSION,
 };
 
-use crate::band::BandError;
+use crate::spectral::band::BandError;
 
 /// Which volume of an actinometer assay is wrong.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

@@ -27,13 +27,13 @@
 
 use embedded_hal::digital::OutputPin;
 
+use crate::acquire::reading::{RangeIndex, Reading, Ticks};
 use crate::dose::{Integrator, Rounding, SampleError, ThresholdId};
 use crate::frontend::{CodeFault, Sample};
 use crate::irradiance::Meter;
 use crate::quantity::{
     Irradiance, PhotonAmount, PhotonExposure, PhotonIrradiance, RadiantExposure, Seconds,
 };
-use crate::reading::{RangeIndex, Reading, Ticks};
 
 /// A dose in any of the units the meter supports.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -115,8 +115,8 @@ pub enum Fault {
     Output,
     /// The ADC (or its bus) reported an error to the caller.
     Sensor,
-    /// A plausibility check failed (see [`crate::plausibility`]).
-    Implausible(crate::plausibility::Implausible),
+    /// A plausibility check failed (see [`crate::control::plausibility`]).
+    Implausible(crate::control::plausibility::Implausible),
     /// The firmware aborted the run.
     Aborted,
 }

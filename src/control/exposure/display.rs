@@ -1,0 +1,134 @@
+//! Status lines for a small character display (16 columns), formatted with integers only.
+
+use core::fmt::Write;
+
+use crate::quantity::Seconds;
+use crate::spectral::weighting::UvIndexCategory;
+
+/// Width of a line, characters.
+pub const WIDTH: usize = 16;
+
+/// A display line of at most [`WIDTH`] ASCII characters; text beyond the width is cut.
+///
+/// (A small buffer of our own rather than `heapless::String`, so that no generic
+/// container code is instantiated in the library for it.)
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Line {
+    buf: [u8; WIDTH],
+    len: u8,
+}
+
+impl Line {
+    /// An empty line.
+    #[must_use]
+    pub const fn new() -> Self {
+        Self {
+            buf: [b' '; WIDTH],
+            len: 0,
+        }
+    }
+    /// The text.
+    #[must_use]
+    pub fn as_str(&self) -> &str {
+        let bytes = self.buf.get(..usize::from(self.len)).unwrap_or(&[]);
+        core::str::from_utf8(bytes).unwrap_or("")
+    }
+    /// Length in characters.
+    #[must_use]
+    pub const fn len(&self) -> usize {
+        self.len as usize
+    }
+    /// Whether the line is empty.
+    #[must_use]
+    pub const fn is_empty(&self) -> bool {
+        self.len == 0
+    }
+    fn push_str(&mut self, s: &str) {
+        for &b in s.as_bytes() {
+            // ASCII only: anything else would break the fixed width of the display.
+            let b = if b.is_ascii() { b } else { b'?' };
+            if let Some(slot) = self.buf.get_mut(usize::from(self.len)) {
+                *slot = b;
+                self.len = self.len.saturating_add(1);
+            }
+        }
+    }
+}
+
+impl Default for Line {
+    fn default() -> Self {
+        Self::new()
+    }
+}
+
+impl Write for Line {
+    fn write_str(&mut self, s: &str) -> core::fmt::Result {
+        self.push_str(s);
+        Ok(())
+    }
+}
+
+/// `"DOSE  42% 3h07m"`: percent of the limit used (whole percent, rounded up) and time
+/// left (`--` when unlimited at the present level, `STOP` when the limit is used).
+#[must_use]
+pub fn dose_line(fraction_used: f64, time_left: Option<Seconds>) -> Line {
+    let mut s = Line::new();
+    let pct = libm::ceil(fraction_used * 100.0);
+    let pct = if pct <= 0.0 {
+        0
+    } else if pct >= 999.0 {
+        999
+    } else {
+        pct as u32
+    };
+    let _ = write!(s, "DOSE {pct:>3}% ");
+    match time_left {
+        None => {
+            s.push_str("  --");
+        }
+        Some(t) if t.s() <= 0.0 || pct >= 100 => {
+            s.push_str("STOP");
+        }
+        Some(t) => {
+            // Round down: never show more time than is left.
+            let secs = libm::floor(t.s());
+            let secs = if secs >= 359_999.0 {
+                359_999
+            } else {
+                secs as u32
+            };
+            let (h, m, sec) = (secs / 3600, (secs / 60) % 60, secs % 60);
+            let _ = if h > 0 {
+                write!(s, "{h}h{m:02}m")
+            } else {
+                write!(s, "{m}m{sec:02}s")
+            };
+        }
+    }
+    s
+}
+
+/// `"UVI  7 HIGH 1.3S"`: reported UV index, category, day's dose in SED (one decimal,
+/// rounded up).
+#[must_use]
+pub fn solar_line(uvi: u32, category: UvIndexCategory, day_sed: f64) -> Line {
+    let mut s = Line::new();
+    let cat = match category {
+        UvIndexCategory::Low => "LOW",
+        UvIndexCategory::Moderate => "MOD",
+        UvIndexCategory::High => "HIGH",
+        UvIndexCategory::VeryHigh => "VHI",
+        UvIndexCategory::Extreme => "EXT",
+    };
+    let tenths = libm::ceil(day_sed * 10.0);
+    let tenths = if tenths <= 0.0 {
+        0
+    } else if tenths >= 999.0 {
+        999
+    } else {
+        tenths as u32
+    };
+    let uvi = uvi.min(99);
+    let _ = write!(s, "UVI{uvi:>3} {cat:<4}{}.{}S", tenths / 10, tenths % 10);
+    s
+}
