@@ -1,7 +1,13 @@
 //! Unit tests of [`super`].
 
+use super::part::LampHistory;
 use super::*;
-use embedded_hal::digital::{ErrorKind, ErrorType};
+use crate::acquire::reading::{RangeIndex, Reading, Ticks};
+use crate::control::ActiveLevel;
+use crate::frontend::CodeFault;
+use crate::irradiance::Meter;
+use crate::quantity::{Irradiance, RadiantExposure};
+use embedded_hal::digital::{ErrorKind, ErrorType, InputPin, OutputPin};
 use std::cell::Cell;
 use std::rc::Rc;
 
