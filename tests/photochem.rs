@@ -300,12 +300,11 @@ fn every_stored_quantum_yield_equals_its_source_value() {
             .collect()
     };
     use Checked::{FromMemory as M, Verified as V};
-    // Hatchard & Parker, Proc. R. Soc. A 235, 518 (1956), as tabulated in the IUPAC 2004
-    // report (Pure Appl. Chem. 76, 2105), 0.006 M. The library marks every value "from
-    // memory": these are the values as stored today, not checked against the printed table.
-    // The 436 and 468 nm rows are to be corrected in a separate change (from memory: the
-    // 0.006 M value at 436 nm is 1.11, and 1.01 / 0.93 belong to the 0.15 M column); this
-    // test then changes with the table.
+    // Hatchard & Parker, Proc. R. Soc. A 235, 518 (1956), as tabulated in Kuhn, Braslavsky &
+    // Schmidt, IUPAC Technical Report, Pure Appl. Chem. 76, 2105-2146 (2004), 0.006 M column.
+    // From memory, not verified against the printed table (the library marks every value
+    // Checked::FromMemory). The column ends at 436 nm (1.11); 1.01 at 436 nm and 0.93 at
+    // 468 nm belong to the 0.15 M column (corrected in issue 18).
     assert_eq!(
         rows(&HATCHARD_PARKER_0_006_M),
         [
@@ -317,16 +316,17 @@ fn every_stored_quantum_yield_equals_its_source_value() {
             (365.0, 1.21, M),
             (366.0, 1.21, M),
             (405.0, 1.14, M),
-            (436.0, 1.01, M),
-            (468.0, 0.93, M),
+            (436.0, 1.11, M),
         ]
     );
-    // Same source, 0.15 M; every value from memory (as marked in the library).
+    // Same sources, 0.15 M column; from memory, not verified.
     assert_eq!(
         rows(&HATCHARD_PARKER_0_15_M),
         [
             (365.0, 1.18, M),
             (366.0, 1.18, M),
+            (436.0, 1.01, M),
+            (468.0, 0.93, M),
             (480.0, 0.94, M),
             (509.0, 0.86, M),
             (546.0, 0.15, M),
@@ -395,7 +395,8 @@ fn quantum_yield_table_interpolation_gaps_and_band_average() {
         .unwrap();
     assert!((mid.quantum_yield.value() - 1.175).abs() < 1e-12);
     assert_eq!(mid.checked, Checked::FromMemory);
-    // Outside the table, and in the 366–480 nm gap of the 0.15 M table: named errors.
+    // Outside the table (the 0.006 M column ends at 436 nm), and in the 366–436 nm gap of the
+    // 0.15 M table (70 nm, wider than the 50 nm bridged): named errors.
     for (table, nm) in [
         (&HATCHARD_PARKER_0_006_M, 250.0),
         (&HATCHARD_PARKER_0_006_M, 470.0),
@@ -425,13 +426,14 @@ fn quantum_yield_table_interpolation_gaps_and_band_average() {
     };
     let avg = HATCHARD_PARKER_0_006_M.band_average(&narrow).unwrap();
     assert!((avg.quantum_yield.value() - 1.175).abs() < 1e-5, "{avg:?}");
-    // A 14 nm LED at 405 nm stays between the neighbouring table values.
+    // A 14 nm LED at 405 nm stays between the neighbouring table values (1.21 at 366 nm,
+    // 1.11 at 436 nm; from memory, see above).
     let led = Band::Led {
         peak: Wavelength::from_nm(405.0),
         fwhm: Wavelength::from_nm(14.0),
     };
     let avg = HATCHARD_PARKER_0_006_M.band_average(&led).unwrap();
-    assert!(avg.quantum_yield.value() > 1.01 && avg.quantum_yield.value() < 1.21);
+    assert!(avg.quantum_yield.value() > 1.11 && avg.quantum_yield.value() < 1.21);
     // The Lee & Seliger table covers 365–366 nm only: an LED band is outside it.
     assert_eq!(
         LEE_SELIGER_1964_0_006_M.band_average(&led),
@@ -852,4 +854,60 @@ fn flux_factor_geometry_for_a_sensor_beside_the_vessel() {
     .unwrap();
     let n = v.incident_photons(RadiantExposure::from_j_per_m2(200.0));
     assert!(rel(n.umol(), 0.05 * 0.9 * 200.0) < 1e-12);
+}
+
+/// One test per Hatchard–Parker row: the stored value at the row's wavelength label equals
+/// the printed value, compared by equality (a stored point is returned as stored), and is
+/// marked from memory.
+macro_rules! hatchard_parker_row {
+    ($name:ident, $table:expr, $nm:expr, $phi:expr) => {
+        #[test]
+        fn $name() {
+            let y = $table.at(Wavelength::from_nm($nm)).unwrap();
+            assert_eq!(y.quantum_yield.value(), $phi, "{} nm", $nm);
+            assert_eq!(y.checked, Checked::FromMemory);
+        }
+    };
+}
+
+// Source of every value below: Hatchard & Parker, Proc. R. Soc. A 235, 518 (1956), Table as
+// reproduced in Kuhn, Braslavsky & Schmidt, IUPAC Technical Report, Pure Appl. Chem. 76,
+// 2105-2146 (2004). Values from memory, not verified against the printed tables.
+// 0.006 M column:
+hatchard_parker_row!(
+    hp_0_006_m_253_7_nm_1_25,
+    HATCHARD_PARKER_0_006_M,
+    253.7,
+    1.25
+);
+hatchard_parker_row!(hp_0_006_m_297_nm_1_24, HATCHARD_PARKER_0_006_M, 297.0, 1.24);
+hatchard_parker_row!(hp_0_006_m_302_nm_1_24, HATCHARD_PARKER_0_006_M, 302.0, 1.24);
+hatchard_parker_row!(hp_0_006_m_313_nm_1_24, HATCHARD_PARKER_0_006_M, 313.0, 1.24);
+hatchard_parker_row!(hp_0_006_m_334_nm_1_23, HATCHARD_PARKER_0_006_M, 334.0, 1.23);
+hatchard_parker_row!(hp_0_006_m_365_nm_1_21, HATCHARD_PARKER_0_006_M, 365.0, 1.21);
+hatchard_parker_row!(hp_0_006_m_366_nm_1_21, HATCHARD_PARKER_0_006_M, 366.0, 1.21);
+hatchard_parker_row!(hp_0_006_m_405_nm_1_14, HATCHARD_PARKER_0_006_M, 405.0, 1.14);
+hatchard_parker_row!(hp_0_006_m_436_nm_1_11, HATCHARD_PARKER_0_006_M, 436.0, 1.11);
+// 0.15 M column:
+hatchard_parker_row!(hp_0_15_m_365_nm_1_18, HATCHARD_PARKER_0_15_M, 365.0, 1.18);
+hatchard_parker_row!(hp_0_15_m_366_nm_1_18, HATCHARD_PARKER_0_15_M, 366.0, 1.18);
+hatchard_parker_row!(hp_0_15_m_436_nm_1_01, HATCHARD_PARKER_0_15_M, 436.0, 1.01);
+hatchard_parker_row!(hp_0_15_m_468_nm_0_93, HATCHARD_PARKER_0_15_M, 468.0, 0.93);
+hatchard_parker_row!(hp_0_15_m_480_nm_0_94, HATCHARD_PARKER_0_15_M, 480.0, 0.94);
+hatchard_parker_row!(hp_0_15_m_509_nm_0_86, HATCHARD_PARKER_0_15_M, 509.0, 0.86);
+hatchard_parker_row!(hp_0_15_m_546_nm_0_15, HATCHARD_PARKER_0_15_M, 546.0, 0.15);
+hatchard_parker_row!(hp_0_15_m_577_nm_0_013, HATCHARD_PARKER_0_15_M, 577.0, 0.013);
+hatchard_parker_row!(hp_0_15_m_579_nm_0_013, HATCHARD_PARKER_0_15_M, 579.0, 0.013);
+
+#[test]
+fn hatchard_parker_0_006_m_has_no_rows_beyond_436_nm() {
+    // The 0.15 M values at 468 nm and beyond must not be read from the 0.006 M table
+    // (Hatchard & Parker 1956 / IUPAC 2004 as above, from memory: those rows are 0.15 M only).
+    for nm in [468.0, 480.0, 509.0, 546.0] {
+        assert_eq!(
+            HATCHARD_PARKER_0_006_M.at(Wavelength::from_nm(nm)),
+            Err(PhotochemError::WavelengthOutsideTable),
+            "{nm}"
+        );
+    }
 }
