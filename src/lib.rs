@@ -66,6 +66,10 @@
 //! Physical quantities are newtypes with the unit in every name ([`quantity`]). Time is
 //! always an argument: the library never reads a clock.
 //!
+//! **Sources.** Every published value is cited by a short key (ICNIRP2004, IEC62471,
+//! HP1956, …) listed with its full citation in [`references`]; text that names a source in
+//! words ("ICNIRP 2004 Table 1") means the same entry.
+//!
 //! ## Example
 //!
 //! ```
@@ -150,6 +154,7 @@ pub mod plausibility;
 pub mod quantity;
 pub mod reading;
 pub mod record;
+pub mod references;
 pub mod session;
 pub mod spectrum;
 pub mod time;

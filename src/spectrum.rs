@@ -1138,8 +1138,9 @@ pub fn corrected_certificate(
 
 /// Refractive index of standard air minus one, (n − 1), at a wavelength: the dispersion
 /// formula of Peck & Reeder, J. Opt. Soc. Am. 62, 958 (1972) (dry air, 15 °C, 101 325 Pa,
-/// 0.033 % CO₂; coefficients from memory, checked against the vacuum values computed in the
-/// project's reference table to 0.1 pm). Stated valid 230–1690 nm; `None` outside 200–2000 nm.
+/// 0.03 % CO₂; reference key PR1972; coefficients from memory). EDLEN1966 and CIDDOR1996
+/// (450 ppm CO₂) give n − 1 within 2·10⁻⁹ and 1.9·10⁻⁸ of it at 254–546 nm (computed from
+/// their formulas, also from memory). Stated valid 230–1690 nm; `None` outside 200–2000 nm.
 #[must_use]
 pub fn air_refractivity(w: Wavelength) -> Option<f64> {
     let um = w.nm() * 1e-3;
@@ -1152,15 +1153,18 @@ pub fn air_refractivity(w: Wavelength) -> Option<f64> {
 
 /// The vacuum wavelength of a standard-air wavelength (line lists such as the mercury lines
 /// are printed in air; every wavelength in this crate is a vacuum wavelength). `None` outside
-/// the range of [`air_refractivity`]. The refractivity is evaluated at the air wavelength;
-/// the error of that shortcut is below 10⁻¹⁰ relative.
+/// the range of [`air_refractivity`]. The refractivity is evaluated at the air wavelength,
+/// not the vacuum one; that shortcut makes the result long by about 2·10⁻⁸ relative at
+/// 254 nm (5·10⁻⁶ nm), 7.5·10⁻⁹ at 365 nm and 3·10⁻⁹ at 546 nm (computed by iterating
+/// λ_vac = λ_air · n(λ_vac) with the same formula) — far below the ±0.001 nm of the line
+/// lists and the 2·10⁻⁸ spread between the air formulas themselves.
 #[must_use]
 pub fn air_to_vacuum(air: Wavelength) -> Option<Wavelength> {
     air_refractivity(air).map(|r| Wavelength::from_m(air.m() * (1.0 + r)))
 }
 
-/// Mercury emission lines as printed, **standard-air** wavelengths in nm (NIST Handbook of
-/// Basic Atomic Spectroscopic Data / Sansonetti, Salit & Reader, Appl. Opt. 35, 74 (1996)).
+/// Mercury emission lines as printed, **standard-air** wavelengths in nm (reference key
+/// SSR1996: Sansonetti, Salit & Reader, Appl. Opt. 35, 74 (1996) and the NIST ASD).
 /// Convert with [`air_to_vacuum`] before use. The third decimal of 253.652 and 296.728 nm is
 /// from memory (the two-decimal values are verified).
 pub mod mercury_air_nm {
@@ -1309,7 +1313,7 @@ mod tests {
 
     #[test]
     fn flat_spectrum_oracle_uva_is_85() {
-        // reference-values §10 (computed from the definition): a flat 1 W m⁻² nm⁻¹ spectrum
+        // Computed from the definition E_UVA = ∫₃₁₅⁴⁰⁰ E_λ dλ (ICNIRP2004): a flat 1 W m⁻² nm⁻¹ spectrum
         // 280–400 nm has E_UVA = ∫₃₁₅⁴⁰⁰ = 85 W/m², exactly and by the trapezoid rule on a 1-nm
         // grid (a rectangle sum including both 315 and 400 nm samples would give 86).
         let flat: Spectrum<2> = Spectrum::from_nm(&[(280.0, 1.0), (400.0, 1.0)]).unwrap();
@@ -1420,7 +1424,7 @@ mod tests {
 
     #[test]
     fn detector_chain_reproduces_the_sensor_check() {
-        // reference-values §7 sensor-chain check (computed): R = 0.20 A/W, area 1 mm²,
+        // Sensor-chain check computed from I = R · E · A: R = 0.20 A/W, area 1 mm²,
         // E = 10 W/m² → I = 2.0 µA, and back to 10 W/m².
         let rule = IntegrationRule::default();
         let det = SpectrumRef::from_nm(&FLAT).unwrap();
@@ -1449,7 +1453,7 @@ mod tests {
 
     #[test]
     fn ideal_detector_effective_responsivity() {
-        // R = QE · λ[nm] / 1239.841 984 A/W (reference-values §1a, computed): a QE = 1
+        // R = QE · e·λ/(h·c) = QE · λ[nm] / 1239.841 984 A/W (SI2019 constants, computed): a QE = 1
         // detector table (R ∝ λ, exact at its points and linear in between) seen by a line.
         let ideal = [
             (200.0, 200.0 / 1_239.841_984),
@@ -1476,7 +1480,7 @@ mod tests {
                 &rule,
             )
             .unwrap();
-            // Printed to 4 decimals in reference-values §7: half a unit of the last digit.
+            // Written to 4 decimals (computed by hand): half a unit of the last digit.
             assert!(
                 (f.effective_responsivity().a_per_w() - r).abs() <= 0.000_05,
                 "{line}"
@@ -1733,8 +1737,8 @@ mod tests {
 
     #[test]
     fn mercury_lines_air_to_vacuum() {
-        // reference-values §6: NIST standard-air wavelengths and the vacuum wavelengths computed
-        // there (Peck & Reeder / Edlén agree to 0.1 pm); line positions to ±0.001 nm.
+        // SSR1996 / NIST ASD standard-air wavelengths; the vacuum wavelengths computed by hand
+        // with PR1972 (EDLEN1966 agrees to 2e-9 in n − 1, computed); line positions ±0.001 nm.
         use mercury_air_nm::*;
         for (air, vac) in [
             (HG_253_652, 253.728),
@@ -1750,12 +1754,13 @@ mod tests {
             let v = air_to_vacuum(nm(air)).unwrap().nm();
             assert!((v - vac).abs() <= 0.001, "{air}: {v}");
         }
-        // n_air − 1 ≈ 3.0e-4 at 254 nm and 2.8e-4 at 436 nm (reference-values §1b).
+        // n_air − 1 ≈ 3.0e-4 at 254 nm and 2.8e-4 at 436 nm (PR1972, EDLEN1966, CIDDOR1996 all
+        // give these to two digits; computed from their dispersion formulas).
         assert!((air_refractivity(nm(254.0)).unwrap() - 3.0e-4).abs() < 0.05e-4);
         assert!((air_refractivity(nm(436.0)).unwrap() - 2.8e-4).abs() < 0.05e-4);
         assert_eq!(air_to_vacuum(nm(150.0)), None);
         // Using the air value overstates the photon energy by ~0.03 %: 4.886 50 eV (vacuum)
-        // vs 4.887 96 eV (air value wrongly used), computed in reference-values §1b.
+        // vs 4.887 96 eV (air value wrongly used), computed from SI2019 constants and PR1972.
         let e_vac = air_to_vacuum(nm(HG_253_652)).unwrap().photon_energy().ev();
         let e_air = nm(HG_253_652).photon_energy().ev();
         assert!((e_vac - 4.886_50).abs() <= 0.000_005);

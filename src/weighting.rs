@@ -45,7 +45,8 @@ pub const SED_J_PER_M2: f64 = 100.0;
 /// Daily limit of UV-hazard-weighted radiant exposure, J/m² within any 8 h (ICNIRP 2004;
 /// IEC 62471 §4.3.1; EU Directive 2006/25/EC Annex I).
 pub const UV_HAZARD_LIMIT_J_PER_M2: f64 = 30.0;
-/// Default lower limit of the erythemal integral, nm (WHO 2002; NOAA Brewer practice uses
+/// Default lower limit of the erythemal integral, nm (WHO 2002; the NOAA Brewer network's
+/// practice — common practice, no source — uses
 /// 286.5 nm).
 pub const ERYTHEMA_LOWER_LIMIT_NM: f64 = 250.0;
 /// Upper end of the erythema spectrum, nm (ISO/CIE 17166).
@@ -57,12 +58,12 @@ pub const MAX_WEIGHTINGS: usize = 6;
 
 /// ICNIRP 2004 relative spectral effectiveness S(λ), (nm, S), 180–400 nm.
 ///
-/// Sources: (1) the Swedish compilation "Tabell 11. Allmänna strålskyddsvärden enligt SSI FS
-/// 1990:1; ICNIRP och ACGIH"; (2) the ACGIH TLV sheet of the far-UVC safety data set
-/// (`data/action_spectra_and_tlv_data.xlsx`, sheet "TLV"), which equals ICNIRP 2004 from
-/// 240 nm. Rows marked † are from (2) only; rows marked ‡ from (1) only (below 240 nm ACGIH
-/// 2022 differs; ICNIRP 2004 is shipped); unmarked rows agree in both. Printed digits are kept
-/// exactly.
+/// Source: ICNIRP2004 Table 1 (see [`crate::references`]); from 240 nm the same values are the
+/// ACGIH2022 S(λ). The rows were read in two independent reproductions of these tables, not
+/// in the printed ICNIRP guideline itself: rows marked (1) (2) agree in both; rows marked †
+/// were found only in a reproduction of the ACGIH table (equal to ICNIRP2004 from 240 nm);
+/// rows marked ‡ (below 240 nm) only in a reproduction of the ICNIRP table (ACGIH2022
+/// differs there; ICNIRP2004 is shipped). Printed digits are kept exactly.
 pub const UV_HAZARD_TABLE: [(f64, f64); 56] = [
     (180.0, 0.012),    // ‡
     (190.0, 0.019),    // ‡
@@ -905,14 +906,15 @@ mod tests {
 
     #[test]
     fn hazard_interpolation_against_the_directive_1_nm_values() {
-        // EU Directive 2006/25/EC Annex I Table 1.2 (as reproduced in the UK Control of
-        // Artificial Optical Radiation schedule). An interpolator is expected within ±0.5 %
-        // (reference-values D6); where the log-linear value rounds to the printed digits it is
-        // also checked to half a unit of the last digit.
+        // EU2006 Annex I Table 1.2 (1 nm values, read in a national regulation reproducing
+        // it). Log-linear interpolation of ICNIRP2004 Table 1 differs from the 1 nm table by up
+        // to 0.5 % (228 nm: 0.1729 against 0.1737, computed), so an interpolator is expected
+        // within ±0.5 %; where the log-linear value rounds to the printed digits it is also
+        // checked to half a unit of the last digit.
         for (x, printed, half_unit, rounds) in [
             (180.0, 0.0120, 0.000_05, true),
             (181.0, 0.0126, 0.000_05, true),
-            (228.0, 0.1737, 0.000_05, false), // log-linear gives 0.1729: D6
+            (228.0, 0.1737, 0.000_05, false), // log-linear gives 0.1729 (computed)
             (276.0, 0.9434, 0.000_05, true),
             (324.0, 0.000_520, 0.000_000_5, true),
             (372.0, 0.000_086, 0.000_000_5, true),
@@ -925,8 +927,8 @@ mod tests {
 
     #[test]
     fn erythema_values_140_form() {
-        // Computed from the ISO/CIE 17166 formula (reference-values §2b), printed to six
-        // significant digits there: compared at half a unit of the last printed digit.
+        // Computed from the ISO17166 formula independently of this crate,
+        // written to six significant digits: compared at half a unit of the last digit.
         for (x, v, half_unit) in [
             (250.0, 1.0, 0.0),
             (298.0, 1.0, 0.0),
@@ -950,7 +952,7 @@ mod tests {
             let s = cie_erythema(nm(x));
             assert!((s - v).abs() <= half_unit, "{x}: {s}");
         }
-        // D1 regression: s_er(340) = 1.000e-3 (10^(0.015 · (140 − 340)) = 10^−3).
+        // Regression for the 140 form (ISO17166): s_er(340) = 1.000e-3 (10^(0.015 · (140 − 340)) = 10^−3).
         assert!(rel(cie_erythema(nm(340.0)), 1.0e-3) < 1e-12);
         // The 140 form, not 139: the older form is 10^−0.015 (3.39 %) lower above 328 nm.
         let old_139 = libm::exp10(0.015 * (139.0 - 350.0));
@@ -971,7 +973,8 @@ mod tests {
 
     #[test]
     fn erythema_rounded_published_values() {
-        // Swedish compilation "Tabell 12" (citing CIE 1998), printed rounded values.
+        // ISO17166 (CIE S 007, 1998) s_er(λ), rounded values as printed in a reproduction of
+        // the CIE table (not read in the standard itself): half a unit of the last digit.
         for (x, printed, half_unit) in [
             (300.0, 0.65, 0.005),
             (310.0, 0.074, 0.0005),
@@ -996,13 +999,14 @@ mod tests {
         assert!(rel(u.value(), 8.0) < 1e-15);
         assert_eq!(u.rounded(), 8);
         assert_eq!(u.category(), UvIndexCategory::VeryHigh);
-        // SMHI units page: E_er = 75 mW/m² → UVI 3.
+        // WHO2002: UVI = 40 m²/W × E_er, so E_er = 75 mW/m² → UVI 3 (computed).
         let u = UvIndex::from_erythemal_w_per_m2(0.075);
         assert_eq!(u.rounded(), 3);
         assert_eq!(u.category(), UvIndexCategory::Moderate);
         // 1 UVI = 25 mW/m² erythemal (WHO 2002, computed 1/40).
         assert!(rel(UvIndex::from_erythemal_w_per_m2(0.025).value(), 1.0) < 1e-15);
-        // WHO 2002 categories of the rounded index (reference-values D11: round first).
+        // WHO2002 categories of the rounded index (the guide reports the index rounded to an
+        // integer; classify after rounding).
         for (e_er, cat) in [
             (2.49 / 40.0, UvIndexCategory::Low),
             (2.5 / 40.0, UvIndexCategory::Moderate),
@@ -1024,8 +1028,8 @@ mod tests {
 
     #[test]
     fn sed_and_time_at_uvi_1() {
-        // 1 h at UVI 1 = 90 J/m² = 0.9 SED (McKenzie, "scaling UV damage"; also computed
-        // 0.025 × 3600); 1 SED = 100 J/m² (ISO 17166 / CIE S 007).
+        // 1 h at UVI 1 = 90 J/m² = 0.9 SED: computed from WHO2002 (UVI 1 = 1/40 W/m² =
+        // 0.025 W/m² erythemal; × 3600 s) and ISO17166 (1 SED = 100 J/m²).
         let e = WeightedIrradiance::from_w_per_m2(0.025, WeightingKind::CieErythema);
         let h = e * Seconds::from_s(3600.0);
         assert!(rel(h.j_per_m2(), 90.0) < 1e-12);
@@ -1042,8 +1046,9 @@ mod tests {
 
     #[test]
     fn line_at_310_nm_uvi_and_t_max() {
-        // reference-values §10 oracle (computed from the definitions): a 310 nm line of
-        // 1 W/m² has E_er = 0.074 473 W/m² → UVI 2.9789 and E_eff = 0.015 W/m² → t_max 2000 s.
+        // Computed from the definitions (ISO17166 s_er, WHO2002 k_er = 40, ICNIRP2004 Table 1
+        // S(310) = 0.015, IEC62471 §4.3.1 t_max = 30/E_eff): a 310 nm line of 1 W/m² has
+        // E_er = 0.074 473 W/m² → UVI 2.9789 and E_eff = 0.015 W/m² → t_max 2000 s.
         let rule = IntegrationRule::default();
         let set = FactorSet::new(
             &Source::Line(nm(310.0)),
@@ -1076,8 +1081,8 @@ mod tests {
     #[test]
     fn t_max_worked_examples() {
         let rule = IntegrationRule::default();
-        // reference-values §3c worked examples (computed from t_max = 30/E_eff, IEC 62471
-        // §4.3.1 Eq. 4.2, with ICNIRP 2004 S(λ)):
+        // Worked examples computed from t_max = 30/E_eff (IEC62471 §4.3.1 Eq. 4.2) with
+        // ICNIRP2004 Table 1 S(λ):
         // 254 nm lamp at 0.01 W/m² → E_eff 0.005 W/m², t_max 6000 s.
         let f = WeightedFactor::new(
             &Source::Line(nm(254.0)),
@@ -1129,8 +1134,8 @@ mod tests {
 
     #[test]
     fn uva_eye_rules_are_kept_apart() {
-        // IEC 62471:2006 §4.3.2 (as implemented in isetcam humanUVSafety.m): 10⁴ J/m² up to
-        // 1000 s, then 10 W/m². At exactly 10 W/m² the source sits on the boundary (§3c).
+        // IEC62471 §4.3.2: 10⁴ J/m² up to 1000 s, then 10 W/m². At exactly 10 W/m² the
+        // source sits on the boundary (10 W/m² × 1000 s = 10⁴ J/m², computed).
         assert_eq!(
             uva_eye_max_time(Irradiance::from_w_per_m2(10.0), UvaEyeRule::Iec62471),
             TimeLimit::Unlimited
@@ -1155,7 +1160,7 @@ mod tests {
     }
 
     /// A Gaussian in *wavelength*, tabulated every 0.05 nm over ±30 nm (the shape of the
-    /// reference-values §3c computation).
+    /// independent computation quoted in the test below).
     fn gaussian_in_wavelength(peak: f64, fwhm: f64) -> Spectrum<1201> {
         let sigma = fwhm / (2.0 * libm::sqrt(2.0 * core::f64::consts::LN_2));
         let mut pts = [(0.0, 0.0); 1201];
@@ -1169,7 +1174,8 @@ mod tests {
 
     #[test]
     fn band_shape_gaussian_in_wavelength_matches_the_reference() {
-        // reference-values §3c (computed there: log-linear S(λ), 0.01 nm steps): for a Gaussian
+        // Computed outside this crate (ICNIRP2004 Table 1, log-linear S(λ), 0.01 nm steps; a
+        // computation, not a published value): for a Gaussian
         // LED of 10 nm FWHM the spectrally averaged S is 2.08× S(centre) at 310 nm, 1.01× at
         // 365 nm, 0.93× at 395 nm, and 3.9e-6 at 405 nm (S(405) itself is 0). Compared at the
         // printed digits.
@@ -1270,7 +1276,8 @@ mod tests {
 
     #[test]
     fn erythema_lower_limit_is_configuration() {
-        // reference-values D12: WHO integrates from 250 nm, NOAA Brewer practice from 286.5 nm.
+        // WHO2002 integrates from 250 nm; 286.5 nm is the lower limit of the NOAA Brewer
+        // network's practice (common practice, no source).
         // For a 280 nm line the two differ completely (computed).
         let rule = IntegrationRule::default();
         let l = Source::Line(nm(280.0));
@@ -1285,8 +1292,9 @@ mod tests {
 
     #[test]
     fn band_edges_default_and_configured() {
-        // CIE / ISO 21348 / Directive 2006/25/EC Art. 2: UV-C 100–280, UV-B 280–315,
-        // UV-A 315–400 nm; half-open by this crate's convention (reference-values §4).
+        // EU2006 Article 2 / ISO21348: UV-C 100–280, UV-B 280–315, UV-A 315–400 nm;
+        // half-open by this crate's convention (the sources do not say which side owns an
+        // edge).
         let e = UvBandEdges::default();
         assert_eq!(e, UvBandEdges::CIE);
         assert_eq!(e.classify(nm(100.0)), Some(UvBand::UvC));
@@ -1296,7 +1304,7 @@ mod tests {
         assert_eq!(e.classify(nm(399.999)), Some(UvBand::UvA));
         assert_eq!(e.classify(nm(400.0)), None);
         assert_eq!(e.range(UvBand::UvB), range(280.0, 315.0));
-        // Curing-trade / older photobiology edge at 320 nm (reference-values D3).
+        // Curing-trade / older photobiology edge at 320 nm (common practice, no source).
         let trade = UvBandEdges::new(nm(200.0), nm(280.0), nm(320.0), nm(400.0)).unwrap();
         assert_eq!(trade.classify(nm(317.0)), Some(UvBand::UvB));
         assert_eq!(

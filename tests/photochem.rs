@@ -1,9 +1,10 @@
 //! The photochemistry stage through its public API: definitions, worked examples, actinometry,
 //! bad input, a real session stopping on an absorbed-photon target, and properties.
 //!
-//! Sources are named beside each value. "reference-values" is the project's compilation of
-//! published check values (shared with the team); its "C" values are computed from exact
-//! definitions and are reproduced here by an independent arithmetic path.
+//! Sources are named beside each value by their key in `photon_ledger::references` (for
+//! example IUPAC2004, LS1964). Values marked "computed" follow from the definitions named
+//! beside them and are reproduced here by an independent arithmetic path; worked examples
+//! with hypothetical readings say so.
 
 mod common;
 
@@ -52,7 +53,7 @@ fn phi(v: f64) -> QuantumYield {
 // The reference row uses the printed A = 0.30103, not lg 2 itself.
 #[allow(clippy::approx_constant)]
 fn fraction_absorbed_at_the_reference_absorbances() {
-    // reference-values §9 (C, computed from f = 1 − 10^(−A), IUPAC Gold Book Q04991 / AT07312):
+    // Computed from f = 1 − 10^(−A) (IUPAC2007; Gold Book Q04991 / AT07312):
     // f = 0.205 672 / 0.500 000 / 0.683 772 / 0.9 / 0.99 / 0.999 at A = 0.1 / 0.30103 / 0.5 /
     // 1 / 2 / 3. Checked twice: against the definition evaluated here with std powf
     // (rel 1e-12) and against the printed six digits (half a unit of the last digit).
@@ -70,7 +71,7 @@ fn fraction_absorbed_at_the_reference_absorbances() {
         assert!(rel(f, definition) < 1e-12, "A = {absorbance}");
         assert!((f - f_printed).abs() <= 5e-7, "A = {absorbance}: {f}");
     }
-    // "A = 2 absorbs 99 %" (reference-values §9, also S: Rohatgi-Mukherjee via a script).
+    // "A = 2 absorbs 99 %" (computed from the same definition: 1 − 10⁻² = 0.99).
     assert!((fraction_absorbed(a(2.0)).unwrap().value() - 0.99).abs() < 1e-12);
 }
 
@@ -95,7 +96,8 @@ fn quantum_yield_definitions_of_the_gold_book() {
 
 #[test]
 fn worked_example_of_reference_values_section_9() {
-    // reference-values §9 worked example (C): ε = 1000 L mol⁻¹ cm⁻¹, c = 1.0e-4 M, l = 1 cm →
+    // Worked example, hypothetical values, computed from IUPAC2007 definitions (A = ε c l,
+    // f = 1 − 10^(−A), Φ = rate / (q⁰ f)): ε = 1000 L mol⁻¹ cm⁻¹, c = 1.0e-4 M, l = 1 cm →
     // A = 0.1, f = 0.205 672; q⁰ = 1.0e-8 einstein s⁻¹, product rate 1.0e-9 mol s⁻¹ →
     // Φ = 0.486 212. Tolerance rel 1e-9 against the same arithmetic done here in one line
     // (L/mol/cm, M, cm units), and half a unit of the printed digits.
@@ -123,7 +125,7 @@ fn worked_example_of_reference_values_section_9() {
 // The reference row uses the printed A = 0.30103, not lg 2 itself.
 #[allow(clippy::approx_constant)]
 fn omitting_the_absorbed_fraction_errs_by_its_inverse() {
-    // reference-values §9 pitfall (C): leaving f out errs by 1/f — a factor 2 at A = 0.301,
+    // Computed (IUPAC2007 differential quantum yield): leaving f out errs by 1/f — a factor 2 at A = 0.301,
     // only 1 % at A = 2.
     for (absorbance, factor) in [(0.301_03, 2.0), (2.0, 1.0 / 0.99)] {
         let f = fraction_absorbed(a(absorbance)).unwrap();
@@ -196,7 +198,7 @@ fn band_average_of_the_fraction_is_not_the_fraction_of_the_mean() {
 // ---------------------------------------------------------------------------------------
 
 fn worked_assay() -> PhenanthrolineAssay {
-    // reference-values §5b worked example (hypothetical readings): V₁ = 3.0 mL, V₂ = 0.5 mL,
+    // Worked example of the IUPAC2004 working equation, hypothetical readings: V₁ = 3.0 mL, V₂ = 0.5 mL,
     // V₃ = 10 mL, l = 1 cm, ΔA₅₁₀ = 0.50, ε = 11 100 L mol⁻¹ cm⁻¹.
     PhenanthrolineAssay {
         delta_absorbance: a(0.50),
@@ -210,7 +212,7 @@ fn worked_assay() -> PhenanthrolineAssay {
 
 #[test]
 fn hatchard_parker_working_equation_worked_example() {
-    // reference-values §5b worked example (C): n = 2.702 70e-6 mol Fe²⁺; with t = 60 s,
+    // Computed by hand from the IUPAC2004 working equation: n = 2.702 70e-6 mol Fe²⁺; with t = 60 s,
     // Φ₃₆₅ = 1.21, fully absorbing: q⁰ = 3.722 73e-8 einstein s⁻¹ = 2.241 88e16 photons s⁻¹
     // ≙ 12.201 mW at 365 nm. Rel 1e-9 against the mL/cm form of the working equation
     // n = V₁ V₃ ΔA / (10³ V₂ l ε) evaluated here (the library works in SI), and half a unit
@@ -235,12 +237,11 @@ fn hatchard_parker_working_equation_worked_example() {
 }
 
 #[test]
-fn third_party_photon_flux_example() {
-    // S (third-party script cited in reference-values §1b/§5b): n = 3.0e-8 mol, Φ = 1.2,
-    // t = 60 s, A = 2, 366 nm → 4.21e-10 einstein s⁻¹, 2.54e14 photons s⁻¹, 0.138 mW.
-    // Compared at the printed precision, except the photon rate: the equation gives
-    // 2.5346e14, which the script printed as 2.54e14 (one unit of its last digit off), so
-    // that value is compared within 0.01e14.
+fn small_photon_flux_worked_example() {
+    // Hypothetical readings, computed by hand from the IUPAC2004 working equation
+    // q⁰ = n / (Φ t f) with f = 1 − 10^(−A) and SI2019 constants: n = 3.0e-8 mol, Φ = 1.2,
+    // t = 60 s, A = 2, 366 nm → 4.208 75e-10 einstein s⁻¹, 2.5346e14 photons s⁻¹, 0.13756 mW.
+    // Compared at half a unit of the last written digit.
     let f = fraction_absorbed(a(2.0)).unwrap();
     let q = incident_photon_flux(
         ChemicalAmount::from_mol(3.0e-8),
@@ -249,11 +250,11 @@ fn third_party_photon_flux_example() {
         f,
     )
     .unwrap();
-    assert!((q.mol_per_s() - 4.21e-10).abs() <= 0.005e-10);
-    assert!((q.mol_per_s() * si::AVOGADRO_PER_MOL - 2.54e14).abs() <= 0.01e14);
+    assert!((q.mol_per_s() - 4.208_75e-10).abs() <= 0.000_005e-10);
+    assert!((q.mol_per_s() * si::AVOGADRO_PER_MOL - 2.5346e14).abs() <= 0.00005e14);
     let mw =
         q.mol_per_s() * si::AVOGADRO_PER_MOL * Wavelength::from_nm(366.0).photon_energy().j() * 1e3;
-    assert!((mw - 0.138).abs() <= 5e-4, "{mw}");
+    assert!((mw - 0.137_56).abs() <= 5e-6, "{mw}");
 }
 
 #[test]
@@ -262,7 +263,7 @@ fn ferrioxalate_quantum_yield_at_365_366_nm() {
     // returned as stored, no computation is involved).
     for nm in [365.0, 366.0] {
         let w = Wavelength::from_nm(nm);
-        // Lee & Seliger, J. Chem. Phys. 40, 519 (1964) (V in reference-values §5b): printed
+        // LS1964 (Lee & Seliger, J. Chem. Phys. 40, 519 (1964), read in a copy): printed
         // 1.26 ± 0.03 at 0.006 M and 1.20 ± 0.03 at 0.15 M, 365/366 nm.
         let ls = LEE_SELIGER_1964_0_006_M.at(w).unwrap();
         assert_eq!(ls.quantum_yield.value(), 1.26);
@@ -272,8 +273,8 @@ fn ferrioxalate_quantum_yield_at_365_366_nm() {
         assert_eq!(ls15.quantum_yield.value(), 1.20);
         assert_eq!(ls15.checked, Checked::Verified);
         // Hatchard & Parker as tabulated in Kuhn, Braslavsky & Schmidt, Pure Appl. Chem. 76,
-        // 2105 (2004): 1.21 at 0.006 M, 1.18 at 0.15 M. From memory (reference-values §5b /
-        // D8); the library marks every Hatchard–Parker value "from memory" (Checked::FromMemory).
+        // 2105 (2004) (HP1956, IUPAC2004): 1.21 at 0.006 M, 1.18 at 0.15 M. From memory; the
+        // library marks every Hatchard–Parker value "from memory" (Checked::FromMemory).
         let hp = HATCHARD_PARKER_0_006_M.at(w).unwrap();
         assert_eq!(hp.quantum_yield.value(), 1.21);
         assert_eq!(hp.checked, Checked::FromMemory);
@@ -362,7 +363,7 @@ fn every_stored_quantum_yield_equals_its_source_value() {
 
 #[test]
 fn the_choice_of_table_moves_the_calibration_by_the_ratio_of_yields() {
-    // D8 (reference-values): 1.21 (H&P) vs 1.26 (Lee & Seliger) at 365/366 nm, 0.006 M.
+    // HP1956 (1.21, from memory) vs LS1964 (1.26 ± 0.03) at 365/366 nm, 0.006 M.
     // Test the arithmetic, not the chemistry: the same assay calibrates 1.26/1.21 times more
     // photons with the H&P value.
     let w = Wavelength::from_nm(365.0);
