@@ -18,6 +18,7 @@
 //!  frontend      code → net code → volts → photocurrent; saturation
 //!  plausibility  stuck / pinned codes, negative current, rate, dark drift, flapping
 //!  band          band shape → photons per joule                      (configuration time)
+//!  band_tolerance  weighted factor over an LED's peak tolerance; conservative factor
 //!  spectrum      tables, sources, detector → W/m² per A, mismatch F*  (configuration time)
 //!  weighting     action spectra → weighted fractions, UVI, SED       (configuration time)
 //!  calibration   calibration record: CRC-sealed format, expiry
@@ -141,6 +142,7 @@
 
 pub mod autorange;
 pub mod band;
+pub mod band_tolerance;
 pub mod calibration;
 pub mod control;
 pub mod curing;

@@ -19,8 +19,9 @@
 //! A [`Source`] is a line (a delta function), an LED-like band or a tabulated spectrum. The
 //! LED model is the one of [`Band::Led`]: a **Gaussian in photon energy** (LED emission
 //! follows the band-gap energy distribution, so the shape is close to symmetric in energy and
-//! skewed towards long wavelengths in a wavelength plot), its energy width taken from the two
-//! half-maximum wavelengths `peak ± FWHM/2`, truncated at ±[`LED_TRUNCATION_SIGMA`] σ and at
+//! skewed towards long wavelengths in a wavelength plot), its centre and width solved so that
+//! the wavelength maximum and FWHM per nm are the configured ones ([`LedShape`](crate::band::LedShape)),
+//! truncated at ±[`LED_TRUNCATION_SIGMA`] σ about the energy centre and at
 //! the supported wavelength range. In wavelength its spectral density is
 //! `exp(−½((hc/λ − E₀)/σ)²) · hc/λ²` (the Jacobian of E = hc/λ).
 //!
@@ -54,7 +55,8 @@
 //!   detector calibrated under one source and used under another.
 
 use crate::band::{
-    Band, BandError, BandFactors, LED_TRUNCATION_SIGMA, MAX_WAVELENGTH_NM, MIN_WAVELENGTH_NM,
+    Band, BandError, BandFactors, LedShape, LED_TRUNCATION_SIGMA, MAX_WAVELENGTH_NM,
+    MIN_WAVELENGTH_NM,
 };
 use crate::irradiance::Calibration;
 use crate::quantity::{si, Area, IrradiancePerCurrent, Responsivity, Wavelength};
@@ -494,12 +496,12 @@ impl<'a> Shape<'a> {
             }
             Source::Led { peak, fwhm } => {
                 BandFactors::new(&Band::Led { peak, fwhm })?;
-                let p = snap_nm(peak);
-                let half = 0.5 * snap_nm(fwhm);
-                let u0 = 1.0 / p;
-                // FWHM = 2 √(2 ln 2) σ for a Gaussian; the energy width comes from p ± FWHM/2.
-                let sigma = (1.0 / (p - half) - 1.0 / (p + half))
-                    / (2.0 * libm::sqrt(2.0 * core::f64::consts::LN_2));
+                // Centre and width solved so the wavelength maximum and FWHM per nm are the
+                // configured ones (see `LedShape`).
+                let shape = LedShape::new(peak, fwhm)?;
+                let p = shape.peak_nm();
+                let u0 = shape.centre_per_nm();
+                let sigma = shape.sigma_per_nm();
                 let u_hi = u0 + LED_TRUNCATION_SIGMA * sigma;
                 let u_lo = (u0 - LED_TRUNCATION_SIGMA * sigma).max(1.0 / MAX_WAVELENGTH_NM);
                 let lo_nm = (1.0 / u_hi).max(MIN_WAVELENGTH_NM);

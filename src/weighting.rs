@@ -1369,7 +1369,8 @@ mod tests {
     #[test]
     fn uvb_led_as_a_single_wavelength_understates_its_hazard() {
         // Computed by this crate (no published value exists for this exact model): the crate's
-        // LED model, a Gaussian in photon energy of 10 nm FWHM, against the same LED treated
+        // LED model, a Gaussian in photon energy with its wavelength maximum at the peak and a
+        // 10 nm FWHM per nm, against the same LED treated
         // as a line at its peak. On the steep UV-B slope of S(λ) (305–320 nm) the peak-only
         // shortcut understates E_eff by about 2×; near the shoulder (295–300 nm) it overstates
         // slightly; at 365 nm it is within 1 %. The pinned values are this computation's
@@ -1392,13 +1393,13 @@ mod tests {
             band_avg / peak_only
         };
         for (p, pinned) in [
-            (295.0, 0.9081),
-            (300.0, 0.9717),
-            (305.0, 1.8921),
-            (310.0, 2.0098),
-            (315.0, 2.3425),
-            (320.0, 1.7785),
-            (365.0, 1.0100),
+            (295.0, 0.9001),
+            (300.0, 0.9550),
+            (305.0, 1.8410),
+            (310.0, 1.9447),
+            (315.0, 2.2674),
+            (320.0, 1.7304),
+            (365.0, 1.0065),
         ] {
             let r = ratio(p);
             assert!((r - pinned).abs() <= 0.001, "{p}: {r}");
@@ -1407,7 +1408,8 @@ mod tests {
             assert!(ratio(p) > 1.8, "{p}");
         }
         // The issue's "about 2.1×" at 310 nm is for a Gaussian in wavelength (2.08, tested
-        // above); the energy-Gaussian model gives 2.01×.
+        // above); the energy-Gaussian model gives 1.94× (2.01× before the LED peak became the
+        // wavelength maximum, issue 18).
     }
 
     #[test]

@@ -169,9 +169,13 @@ fn band_average_of_the_fraction_is_not_the_fraction_of_the_mean() {
         .value();
 
     let hc = si::HC_J_M;
-    let e0 = hc / peak;
-    let sigma = (hc / (peak - fwhm / 2.0) - hc / (peak + fwhm / 2.0))
-        / (2.0 * (2.0 * std::f64::consts::LN_2).sqrt());
+    // The band's energy Gaussian, placed so its wavelength maximum and FWHM per nm are the
+    // configured ones (`LedShape`, checked independently in tests/led_band.rs).
+    let shape =
+        photon_ledger::band::LedShape::new(Wavelength::from_m(peak), Wavelength::from_m(fwhm))
+            .unwrap();
+    let e0 = shape.centre_energy_j();
+    let sigma = shape.sigma_energy_j();
     let absorbance_at = |nm: f64| (1.6 * (450.0 - nm) / 90.0).clamp(0.0, 1.6);
     let (mut sw, mut sf, mut sa) = (0.0, 0.0, 0.0);
     let n = 20_001;
