@@ -18,7 +18,7 @@
 //!  acquire/      reading: raw code + amplifier range + timestamp     PhotodiodeAdc (nb)
 //!                autorange: range choice with hysteresis             OutputPin
 //!  frontend      code → net code (once per reading: Sample) → volts → photocurrent
-//!  spectral/     band, spectrum, weighting → constant factors        (configuration time)
+//!  spectral/     band, spectrum, weighting, peak tolerance → factors  (configuration time)
 //!  irradiance/   photocurrent → W/m²: the Meter; calibration records (CRC, expiry)
 //!  dose/         the one exact integer integral; thresholds in integer units
 //!  time          the one timing policy and the 64-bit tick base
@@ -70,6 +70,10 @@
 //!
 //! Physical quantities are newtypes with the unit in every name ([`quantity`]). Time is
 //! always an argument: the library never reads a clock.
+//!
+//! **Sources.** Every published value is cited by a short key (ICNIRP2004, IEC62471,
+//! HP1956, …) listed with its full citation in [`references`]; text that names a source in
+//! words ("ICNIRP 2004 Table 1") means the same entry.
 //!
 //! ## Example
 //!
@@ -150,6 +154,7 @@ pub mod frontend;
 pub mod irradiance;
 pub mod journal;
 pub mod photochem;
+pub mod references;
 pub mod spectral;
 
 #[cfg(test)]

@@ -100,7 +100,7 @@ fn gets(n: usize, state: State) -> Vec<Pin> {
 
 #[test]
 fn worked_example_1000_mj_per_cm2_at_100_mw_per_cm2_takes_10_s() {
-    // Reference values §8 worked example (computed): 1000 mJ/cm² at a constant 100 mW/cm²
+    // Worked example computed from H = E · t: 1000 mJ/cm² at a constant 100 mW/cm²
     // → 10.0 s. 100 mW/cm² is 1000 codes here; readings every 10 ms; no actuator lag.
     let readings = 1002; // t = 10 ms … 10.02 s
     let mut interlock = vec![Pin::get(State::High)]; // start

@@ -361,8 +361,9 @@ fn uv_index_and_sed() {
     assert_eq!(solar.uv_index_reported(), (8, UvIndexCategory::VeryHigh));
     assert!((solar.uv_index_now().value() - 8.0).abs() < 1e-12);
 
-    // E_er = 75 mW/m² → UVI 3 (SMHI units page), "moderate"; 1 h at UVI 1 (25 mW/m²) is
-    // 90 J/m² = 0.9 SED (McKenzie, "scaling UV damage"; 1 SED = 100 J/m², ISO/CIE 17166).
+    // E_er = 75 mW/m² → UVI 3 (WHO2002: UVI = 40 m²/W × E_er, computed), "moderate"
+    // (WHO2002 categories); 1 h at UVI 1 (25 mW/m²) is 90 J/m² = 0.9 SED (computed:
+    // 0.025 W/m² × 3600 s; 1 SED = 100 J/m², ISO17166).
     let mut solar =
         SolarMonitor::<11>::new(meter(), er, u64::from(10 * MIN), u64::from(MIN), 10 * S).unwrap();
     for k in 0..=3600 {
@@ -377,7 +378,8 @@ fn uv_index_and_sed() {
 #[test]
 fn uva_eye_rule_sets_stay_apart() {
     // IEC 62471:2006 §4.3.2: 10⁴ J/m² for t ≤ 1000 s, then 10 W/m²; Directive 2006/25/EC:
-    // 10⁴ J/m² per 8 h. Continuous at 1000 s; 28.8× apart at 8 h (reference-values D7).
+    // 10⁴ J/m² per 8 h (EU2006 Annex I Table 1.1 (b)). Continuous at 1000 s; 28.8× apart at
+    // 8 h (computed: 10 W/m² × 28 800 s / 10⁴ J/m²).
     let iec = UvaEyeRule::Iec62471;
     let eu = UvaEyeRule::Directive2006;
     assert_eq!(iec.allowance(Seconds::from_s(500.0)).j_per_m2(), 1e4);

@@ -1,9 +1,10 @@
 //! The photochemistry stage through its public API: definitions, worked examples, actinometry,
 //! bad input, a real session stopping on an absorbed-photon target, and properties.
 //!
-//! Sources are named beside each value. "reference-values" is the project's compilation of
-//! published check values (shared with the team); its "C" values are computed from exact
-//! definitions and are reproduced here by an independent arithmetic path.
+//! Sources are named beside each value by their key in `photon_ledger::references` (for
+//! example IUPAC2004, LS1964). Values marked "computed" follow from the definitions named
+//! beside them and are reproduced here by an independent arithmetic path; worked examples
+//! with hypothetical readings say so.
 
 mod common;
 
@@ -52,7 +53,7 @@ fn phi(v: f64) -> QuantumYield {
 // The reference row uses the printed A = 0.30103, not lg 2 itself.
 #[allow(clippy::approx_constant)]
 fn fraction_absorbed_at_the_reference_absorbances() {
-    // reference-values §9 (C, computed from f = 1 − 10^(−A), IUPAC Gold Book Q04991 / AT07312):
+    // Computed from f = 1 − 10^(−A) (IUPAC2007; Gold Book Q04991 / AT07312):
     // f = 0.205 672 / 0.500 000 / 0.683 772 / 0.9 / 0.99 / 0.999 at A = 0.1 / 0.30103 / 0.5 /
     // 1 / 2 / 3. Checked twice: against the definition evaluated here with std powf
     // (rel 1e-12) and against the printed six digits (half a unit of the last digit).
@@ -70,7 +71,7 @@ fn fraction_absorbed_at_the_reference_absorbances() {
         assert!(rel(f, definition) < 1e-12, "A = {absorbance}");
         assert!((f - f_printed).abs() <= 5e-7, "A = {absorbance}: {f}");
     }
-    // "A = 2 absorbs 99 %" (reference-values §9, also S: Rohatgi-Mukherjee via a script).
+    // "A = 2 absorbs 99 %" (computed from the same definition: 1 − 10⁻² = 0.99).
     assert!((fraction_absorbed(a(2.0)).unwrap().value() - 0.99).abs() < 1e-12);
 }
 
@@ -95,7 +96,8 @@ fn quantum_yield_definitions_of_the_gold_book() {
 
 #[test]
 fn worked_example_of_reference_values_section_9() {
-    // reference-values §9 worked example (C): ε = 1000 L mol⁻¹ cm⁻¹, c = 1.0e-4 M, l = 1 cm →
+    // Worked example, hypothetical values, computed from IUPAC2007 definitions (A = ε c l,
+    // f = 1 − 10^(−A), Φ = rate / (q⁰ f)): ε = 1000 L mol⁻¹ cm⁻¹, c = 1.0e-4 M, l = 1 cm →
     // A = 0.1, f = 0.205 672; q⁰ = 1.0e-8 einstein s⁻¹, product rate 1.0e-9 mol s⁻¹ →
     // Φ = 0.486 212. Tolerance rel 1e-9 against the same arithmetic done here in one line
     // (L/mol/cm, M, cm units), and half a unit of the printed digits.
@@ -123,7 +125,7 @@ fn worked_example_of_reference_values_section_9() {
 // The reference row uses the printed A = 0.30103, not lg 2 itself.
 #[allow(clippy::approx_constant)]
 fn omitting_the_absorbed_fraction_errs_by_its_inverse() {
-    // reference-values §9 pitfall (C): leaving f out errs by 1/f — a factor 2 at A = 0.301,
+    // Computed (IUPAC2007 differential quantum yield): leaving f out errs by 1/f — a factor 2 at A = 0.301,
     // only 1 % at A = 2.
     for (absorbance, factor) in [(0.301_03, 2.0), (2.0, 1.0 / 0.99)] {
         let f = fraction_absorbed(a(absorbance)).unwrap();
@@ -167,9 +169,15 @@ fn band_average_of_the_fraction_is_not_the_fraction_of_the_mean() {
         .value();
 
     let hc = si::HC_J_M;
-    let e0 = hc / peak;
-    let sigma = (hc / (peak - fwhm / 2.0) - hc / (peak + fwhm / 2.0))
-        / (2.0 * (2.0 * std::f64::consts::LN_2).sqrt());
+    // The band's energy Gaussian, placed so its wavelength maximum and FWHM per nm are the
+    // configured ones (`LedShape`, checked independently in tests/led_band.rs).
+    let shape = photon_ledger::spectral::band::LedShape::new(
+        Wavelength::from_m(peak),
+        Wavelength::from_m(fwhm),
+    )
+    .unwrap();
+    let e0 = shape.centre_energy_j();
+    let sigma = shape.sigma_energy_j();
     let absorbance_at = |nm: f64| (1.6 * (450.0 - nm) / 90.0).clamp(0.0, 1.6);
     let (mut sw, mut sf, mut sa) = (0.0, 0.0, 0.0);
     let n = 20_001;
@@ -196,7 +204,7 @@ fn band_average_of_the_fraction_is_not_the_fraction_of_the_mean() {
 // ---------------------------------------------------------------------------------------
 
 fn worked_assay() -> PhenanthrolineAssay {
-    // reference-values §5b worked example (hypothetical readings): V₁ = 3.0 mL, V₂ = 0.5 mL,
+    // Worked example of the IUPAC2004 working equation, hypothetical readings: V₁ = 3.0 mL, V₂ = 0.5 mL,
     // V₃ = 10 mL, l = 1 cm, ΔA₅₁₀ = 0.50, ε = 11 100 L mol⁻¹ cm⁻¹.
     PhenanthrolineAssay {
         delta_absorbance: a(0.50),
@@ -210,7 +218,7 @@ fn worked_assay() -> PhenanthrolineAssay {
 
 #[test]
 fn hatchard_parker_working_equation_worked_example() {
-    // reference-values §5b worked example (C): n = 2.702 70e-6 mol Fe²⁺; with t = 60 s,
+    // Computed by hand from the IUPAC2004 working equation: n = 2.702 70e-6 mol Fe²⁺; with t = 60 s,
     // Φ₃₆₅ = 1.21, fully absorbing: q⁰ = 3.722 73e-8 einstein s⁻¹ = 2.241 88e16 photons s⁻¹
     // ≙ 12.201 mW at 365 nm. Rel 1e-9 against the mL/cm form of the working equation
     // n = V₁ V₃ ΔA / (10³ V₂ l ε) evaluated here (the library works in SI), and half a unit
@@ -235,12 +243,11 @@ fn hatchard_parker_working_equation_worked_example() {
 }
 
 #[test]
-fn third_party_photon_flux_example() {
-    // S (third-party script cited in reference-values §1b/§5b): n = 3.0e-8 mol, Φ = 1.2,
-    // t = 60 s, A = 2, 366 nm → 4.21e-10 einstein s⁻¹, 2.54e14 photons s⁻¹, 0.138 mW.
-    // Compared at the printed precision, except the photon rate: the equation gives
-    // 2.5346e14, which the script printed as 2.54e14 (one unit of its last digit off), so
-    // that value is compared within 0.01e14.
+fn small_photon_flux_worked_example() {
+    // Hypothetical readings, computed by hand from the IUPAC2004 working equation
+    // q⁰ = n / (Φ t f) with f = 1 − 10^(−A) and SI2019 constants: n = 3.0e-8 mol, Φ = 1.2,
+    // t = 60 s, A = 2, 366 nm → 4.208 75e-10 einstein s⁻¹, 2.5346e14 photons s⁻¹, 0.13756 mW.
+    // Compared at half a unit of the last written digit.
     let f = fraction_absorbed(a(2.0)).unwrap();
     let q = incident_photon_flux(
         ChemicalAmount::from_mol(3.0e-8),
@@ -249,11 +256,11 @@ fn third_party_photon_flux_example() {
         f,
     )
     .unwrap();
-    assert!((q.mol_per_s() - 4.21e-10).abs() <= 0.005e-10);
-    assert!((q.mol_per_s() * si::AVOGADRO_PER_MOL - 2.54e14).abs() <= 0.01e14);
+    assert!((q.mol_per_s() - 4.208_75e-10).abs() <= 0.000_005e-10);
+    assert!((q.mol_per_s() * si::AVOGADRO_PER_MOL - 2.5346e14).abs() <= 0.00005e14);
     let mw =
         q.mol_per_s() * si::AVOGADRO_PER_MOL * Wavelength::from_nm(366.0).photon_energy().j() * 1e3;
-    assert!((mw - 0.138).abs() <= 5e-4, "{mw}");
+    assert!((mw - 0.137_56).abs() <= 5e-6, "{mw}");
 }
 
 #[test]
@@ -262,7 +269,7 @@ fn ferrioxalate_quantum_yield_at_365_366_nm() {
     // returned as stored, no computation is involved).
     for nm in [365.0, 366.0] {
         let w = Wavelength::from_nm(nm);
-        // Lee & Seliger, J. Chem. Phys. 40, 519 (1964) (V in reference-values §5b): printed
+        // LS1964 (Lee & Seliger, J. Chem. Phys. 40, 519 (1964), read in a copy): printed
         // 1.26 ± 0.03 at 0.006 M and 1.20 ± 0.03 at 0.15 M, 365/366 nm.
         let ls = LEE_SELIGER_1964_0_006_M.at(w).unwrap();
         assert_eq!(ls.quantum_yield.value(), 1.26);
@@ -272,8 +279,8 @@ fn ferrioxalate_quantum_yield_at_365_366_nm() {
         assert_eq!(ls15.quantum_yield.value(), 1.20);
         assert_eq!(ls15.checked, Checked::Verified);
         // Hatchard & Parker as tabulated in Kuhn, Braslavsky & Schmidt, Pure Appl. Chem. 76,
-        // 2105 (2004): 1.21 at 0.006 M, 1.18 at 0.15 M. From memory (reference-values §5b /
-        // D8); the library marks every Hatchard–Parker value "from memory" (Checked::FromMemory).
+        // 2105 (2004) (HP1956, IUPAC2004): 1.21 at 0.006 M, 1.18 at 0.15 M. From memory; the
+        // library marks every Hatchard–Parker value "from memory" (Checked::FromMemory).
         let hp = HATCHARD_PARKER_0_006_M.at(w).unwrap();
         assert_eq!(hp.quantum_yield.value(), 1.21);
         assert_eq!(hp.checked, Checked::FromMemory);
@@ -300,12 +307,11 @@ fn every_stored_quantum_yield_equals_its_source_value() {
             .collect()
     };
     use Checked::{FromMemory as M, Verified as V};
-    // Hatchard & Parker, Proc. R. Soc. A 235, 518 (1956), as tabulated in the IUPAC 2004
-    // report (Pure Appl. Chem. 76, 2105), 0.006 M. The library marks every value "from
-    // memory": these are the values as stored today, not checked against the printed table.
-    // The 436 and 468 nm rows are to be corrected in a separate change (from memory: the
-    // 0.006 M value at 436 nm is 1.11, and 1.01 / 0.93 belong to the 0.15 M column); this
-    // test then changes with the table.
+    // Hatchard & Parker, Proc. R. Soc. A 235, 518 (1956), as tabulated in Kuhn, Braslavsky &
+    // Schmidt, IUPAC Technical Report, Pure Appl. Chem. 76, 2105-2146 (2004), 0.006 M column.
+    // From memory, not verified against the printed table (the library marks every value
+    // Checked::FromMemory). The column ends at 436 nm (1.11); 1.01 at 436 nm and 0.93 at
+    // 468 nm belong to the 0.15 M column (corrected in issue 18).
     assert_eq!(
         rows(&HATCHARD_PARKER_0_006_M),
         [
@@ -317,16 +323,17 @@ fn every_stored_quantum_yield_equals_its_source_value() {
             (365.0, 1.21, M),
             (366.0, 1.21, M),
             (405.0, 1.14, M),
-            (436.0, 1.01, M),
-            (468.0, 0.93, M),
+            (436.0, 1.11, M),
         ]
     );
-    // Same source, 0.15 M; every value from memory (as marked in the library).
+    // Same sources, 0.15 M column; from memory, not verified.
     assert_eq!(
         rows(&HATCHARD_PARKER_0_15_M),
         [
             (365.0, 1.18, M),
             (366.0, 1.18, M),
+            (436.0, 1.01, M),
+            (468.0, 0.93, M),
             (480.0, 0.94, M),
             (509.0, 0.86, M),
             (546.0, 0.15, M),
@@ -362,7 +369,7 @@ fn every_stored_quantum_yield_equals_its_source_value() {
 
 #[test]
 fn the_choice_of_table_moves_the_calibration_by_the_ratio_of_yields() {
-    // D8 (reference-values): 1.21 (H&P) vs 1.26 (Lee & Seliger) at 365/366 nm, 0.006 M.
+    // HP1956 (1.21, from memory) vs LS1964 (1.26 ± 0.03) at 365/366 nm, 0.006 M.
     // Test the arithmetic, not the chemistry: the same assay calibrates 1.26/1.21 times more
     // photons with the H&P value.
     let w = Wavelength::from_nm(365.0);
@@ -395,7 +402,8 @@ fn quantum_yield_table_interpolation_gaps_and_band_average() {
         .unwrap();
     assert!((mid.quantum_yield.value() - 1.175).abs() < 1e-12);
     assert_eq!(mid.checked, Checked::FromMemory);
-    // Outside the table, and in the 366–480 nm gap of the 0.15 M table: named errors.
+    // Outside the table (the 0.006 M column ends at 436 nm), and in the 366–436 nm gap of the
+    // 0.15 M table (70 nm, wider than the 50 nm bridged): named errors.
     for (table, nm) in [
         (&HATCHARD_PARKER_0_006_M, 250.0),
         (&HATCHARD_PARKER_0_006_M, 470.0),
@@ -425,13 +433,14 @@ fn quantum_yield_table_interpolation_gaps_and_band_average() {
     };
     let avg = HATCHARD_PARKER_0_006_M.band_average(&narrow).unwrap();
     assert!((avg.quantum_yield.value() - 1.175).abs() < 1e-5, "{avg:?}");
-    // A 14 nm LED at 405 nm stays between the neighbouring table values.
+    // A 14 nm LED at 405 nm stays between the neighbouring table values (1.21 at 366 nm,
+    // 1.11 at 436 nm; from memory, see above).
     let led = Band::Led {
         peak: Wavelength::from_nm(405.0),
         fwhm: Wavelength::from_nm(14.0),
     };
     let avg = HATCHARD_PARKER_0_006_M.band_average(&led).unwrap();
-    assert!(avg.quantum_yield.value() > 1.01 && avg.quantum_yield.value() < 1.21);
+    assert!(avg.quantum_yield.value() > 1.11 && avg.quantum_yield.value() < 1.21);
     // The Lee & Seliger table covers 365–366 nm only: an LED band is outside it.
     assert_eq!(
         LEE_SELIGER_1964_0_006_M.band_average(&led),
@@ -852,4 +861,60 @@ fn flux_factor_geometry_for_a_sensor_beside_the_vessel() {
     .unwrap();
     let n = v.incident_photons(RadiantExposure::from_j_per_m2(200.0));
     assert!(rel(n.umol(), 0.05 * 0.9 * 200.0) < 1e-12);
+}
+
+/// One test per Hatchard–Parker row: the stored value at the row's wavelength label equals
+/// the printed value, compared by equality (a stored point is returned as stored), and is
+/// marked from memory.
+macro_rules! hatchard_parker_row {
+    ($name:ident, $table:expr, $nm:expr, $phi:expr) => {
+        #[test]
+        fn $name() {
+            let y = $table.at(Wavelength::from_nm($nm)).unwrap();
+            assert_eq!(y.quantum_yield.value(), $phi, "{} nm", $nm);
+            assert_eq!(y.checked, Checked::FromMemory);
+        }
+    };
+}
+
+// Source of every value below: Hatchard & Parker, Proc. R. Soc. A 235, 518 (1956), Table as
+// reproduced in Kuhn, Braslavsky & Schmidt, IUPAC Technical Report, Pure Appl. Chem. 76,
+// 2105-2146 (2004). Values from memory, not verified against the printed tables.
+// 0.006 M column:
+hatchard_parker_row!(
+    hp_0_006_m_253_7_nm_1_25,
+    HATCHARD_PARKER_0_006_M,
+    253.7,
+    1.25
+);
+hatchard_parker_row!(hp_0_006_m_297_nm_1_24, HATCHARD_PARKER_0_006_M, 297.0, 1.24);
+hatchard_parker_row!(hp_0_006_m_302_nm_1_24, HATCHARD_PARKER_0_006_M, 302.0, 1.24);
+hatchard_parker_row!(hp_0_006_m_313_nm_1_24, HATCHARD_PARKER_0_006_M, 313.0, 1.24);
+hatchard_parker_row!(hp_0_006_m_334_nm_1_23, HATCHARD_PARKER_0_006_M, 334.0, 1.23);
+hatchard_parker_row!(hp_0_006_m_365_nm_1_21, HATCHARD_PARKER_0_006_M, 365.0, 1.21);
+hatchard_parker_row!(hp_0_006_m_366_nm_1_21, HATCHARD_PARKER_0_006_M, 366.0, 1.21);
+hatchard_parker_row!(hp_0_006_m_405_nm_1_14, HATCHARD_PARKER_0_006_M, 405.0, 1.14);
+hatchard_parker_row!(hp_0_006_m_436_nm_1_11, HATCHARD_PARKER_0_006_M, 436.0, 1.11);
+// 0.15 M column:
+hatchard_parker_row!(hp_0_15_m_365_nm_1_18, HATCHARD_PARKER_0_15_M, 365.0, 1.18);
+hatchard_parker_row!(hp_0_15_m_366_nm_1_18, HATCHARD_PARKER_0_15_M, 366.0, 1.18);
+hatchard_parker_row!(hp_0_15_m_436_nm_1_01, HATCHARD_PARKER_0_15_M, 436.0, 1.01);
+hatchard_parker_row!(hp_0_15_m_468_nm_0_93, HATCHARD_PARKER_0_15_M, 468.0, 0.93);
+hatchard_parker_row!(hp_0_15_m_480_nm_0_94, HATCHARD_PARKER_0_15_M, 480.0, 0.94);
+hatchard_parker_row!(hp_0_15_m_509_nm_0_86, HATCHARD_PARKER_0_15_M, 509.0, 0.86);
+hatchard_parker_row!(hp_0_15_m_546_nm_0_15, HATCHARD_PARKER_0_15_M, 546.0, 0.15);
+hatchard_parker_row!(hp_0_15_m_577_nm_0_013, HATCHARD_PARKER_0_15_M, 577.0, 0.013);
+hatchard_parker_row!(hp_0_15_m_579_nm_0_013, HATCHARD_PARKER_0_15_M, 579.0, 0.013);
+
+#[test]
+fn hatchard_parker_0_006_m_has_no_rows_beyond_436_nm() {
+    // The 0.15 M values at 468 nm and beyond must not be read from the 0.006 M table
+    // (Hatchard & Parker 1956 / IUPAC 2004 as above, from memory: those rows are 0.15 M only).
+    for nm in [468.0, 480.0, 509.0, 546.0] {
+        assert_eq!(
+            HATCHARD_PARKER_0_006_M.at(Wavelength::from_nm(nm)),
+            Err(PhotochemError::WavelengthOutsideTable),
+            "{nm}"
+        );
+    }
 }

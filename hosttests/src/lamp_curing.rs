@@ -581,7 +581,7 @@ pub fn run_part(
 /// Tick rate of the sweep (10 µs ticks).
 pub const SWEEP_TICK_HZ: u32 = 100_000;
 
-/// Target of the sweep: 1000 mJ/cm² (reference-values §8 worked-example value).
+/// Target of the sweep: 1000 mJ/cm² (a round curing dose; common practice, no source).
 pub const SWEEP_TARGET_MJ_PER_CM2: f64 = 1000.0;
 
 /// How the sweep stops the part.
@@ -730,7 +730,7 @@ mod tests {
         );
         s.command(true);
         s.advance_to(10.0);
-        // 100 mW/cm² for 10.0 s = 1000 mJ/cm² (reference-values §8 worked example, computed).
+        // 100 mW/cm² for 10.0 s = 1000 mJ/cm² (computed from H = E · t).
         assert!((s.true_dose().mj_per_cm2() - 1000.0).abs() < 1e-6);
         s.command(false);
         s.advance_to(11.0);

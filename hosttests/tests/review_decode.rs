@@ -503,8 +503,9 @@ fn register_import_of_an_image_twice_adds_its_sessions_once() {
         faults[0].radiant_exposure_j_per_m2,
         d.sessions[1].radiant_exposure_j_per_m2
     );
-    // Session 2 started at tick 157 300 of 1 kHz ticks after the epoch 09:00:00.
-    assert_eq!(d.sessions[1].start_tick, Some(157_300));
+    // Session 2 started at tick 157 250 of 1 kHz ticks after the epoch 09:00:00 (157 300
+    // before issue 18 moved the LED model's energy centre; session 1 ends 50 ms earlier).
+    assert_eq!(d.sessions[1].start_tick, Some(157_250));
     assert_eq!(faults[0].start_utc, "2025-03-14T09:02:37Z");
 
     let conn = rusqlite::Connection::open(&db).unwrap();

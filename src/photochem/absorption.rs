@@ -366,8 +366,8 @@ mod tests {
 
     #[test]
     fn beer_lambert_units() {
-        // §9 worked example of reference-values (computed): ε = 1000 L mol⁻¹ cm⁻¹,
-        // c = 1.0e-4 M, l = 1 cm → A = 0.1.
+        // Beer–Lambert A = ε c l (IUPAC2007), hypothetical values, computed:
+        // ε = 1000 L mol⁻¹ cm⁻¹, c = 1.0e-4 M, l = 1 cm → A = 0.1.
         let a = beer_lambert(
             MolarAbsorptionCoefficient::from_l_per_mol_cm(1000.0),
             Concentration::from_mol_per_l(1.0e-4),

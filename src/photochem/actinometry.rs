@@ -35,8 +35,8 @@
 //!
 //! | table | values | checked |
 //! | --- | --- | --- |
-//! | [`HATCHARD_PARKER_0_006_M`] | 253.7–468 nm, 1.25 … 0.93 | from memory |
-//! | [`HATCHARD_PARKER_0_15_M`] | 365/366, 480–579 nm | from memory |
+//! | [`HATCHARD_PARKER_0_006_M`] | 253.7–436 nm, 1.25 … 1.11 | from memory |
+//! | [`HATCHARD_PARKER_0_15_M`] | 365/366, 436–579 nm, 1.18 … 0.013 | from memory |
 //! | [`LEE_SELIGER_1964_0_006_M`] | 1.26 ± 0.03 at 365/366 nm | verified |
 //! | [`LEE_SELIGER_1964_0_15_M`] | 1.20 ± 0.03 at 365/366 nm | verified |
 //! | [`WRIEDT_2020_FIT_POINTS`] | smooth fit sampled at 254–510 nm | verified |
@@ -44,7 +44,8 @@
 //! The sources disagree by more than their stated uncertainty in places: at 365/366 nm,
 //! 0.006 M, Hatchard & Parker give 1.21 and Lee & Seliger 1.26 ± 0.03; at 0.15 M 1.18 against
 //! 1.20; the Wriedt et al. (2020) fit gives 1.223 at 365 nm but 1.121 at 254 nm (against 1.25)
-//! and 1.064 at 436 nm (against 1.01, and 1.0 from Faust & Zepp). The choice of table is a
+//! and 1.064 at 436 nm (against 1.11 at 0.006 M and 1.01 at 0.15 M, and 1.0 from Faust & Zepp).
+//! The choice of table is a
 //! chemistry decision; record it (the calibration record keeps the table's id).
 //!
 //! Table wavelengths are the nominal labels of the source (mostly mercury lines, which are
@@ -251,9 +252,13 @@ const V: Checked = Checked::Verified;
 /// Gap bridged by the shipped tables, nm.
 const SHIPPED_MAX_GAP_NM: f64 = 50.0;
 
-/// Φ(Fe²⁺), 0.006 M, after Hatchard & Parker (1956) as tabulated in the IUPAC 2004 report.
-/// **All values from memory, not verified.** The source rows "297/302" and "365/366" are
-/// stored as two points each.
+/// Φ(Fe²⁺), 0.006 M, after Hatchard & Parker (1956) as tabulated in the IUPAC 2004 report
+/// (reference keys HP1956 and IUPAC2004 in the `references` module).
+/// **All values from memory, not verified** against either printed table. The source rows
+/// "297/302" and "365/366" are stored as two points each. The table ends at 436 nm (1.11):
+/// a 0.006 M solution absorbs too little at longer wavelengths, and the 468–579 nm values
+/// belong to the 0.15 M column ([`HATCHARD_PARKER_0_15_M`]). An earlier version of this
+/// table wrongly held the 0.15 M values 1.01 (436 nm) and 0.93 (468 nm) here.
 pub const HATCHARD_PARKER_0_006_M: QuantumYieldTable<'static> = QuantumYieldTable {
     id: QuantumYieldTableId::HatchardParker0006M,
     citation: "Hatchard & Parker, Proc. R. Soc. A 235, 518 (1956), as tabulated in Kuhn, \
@@ -269,15 +274,16 @@ pub const HATCHARD_PARKER_0_006_M: QuantumYieldTable<'static> = QuantumYieldTabl
         point(365.0, 1.21, M),
         point(366.0, 1.21, M),
         point(405.0, 1.14, M),
-        point(436.0, 1.01, M),
-        point(468.0, 0.93, M),
+        point(436.0, 1.11, M),
     ],
     max_gap_nm: SHIPPED_MAX_GAP_NM,
 };
 
-/// Φ(Fe²⁺), 0.15 M, after Hatchard & Parker (1956) as tabulated in the IUPAC 2004 report.
-/// **All values from memory, not verified.** No values between 366 and 480 nm (the gap is
-/// not bridged).
+/// Φ(Fe²⁺), 0.15 M, after Hatchard & Parker (1956) as tabulated in the IUPAC 2004 report
+/// (reference keys HP1956 and IUPAC2004 in the `references` module).
+/// **All values from memory, not verified** against either printed table. The source row
+/// "577/579" is stored as two points. No values between 366 and 436 nm (the 70 nm gap is
+/// not bridged). 468 nm (0.93) lies below 480 nm (0.94) as remembered; verify both.
 pub const HATCHARD_PARKER_0_15_M: QuantumYieldTable<'static> = QuantumYieldTable {
     id: QuantumYieldTableId::HatchardParker015M,
     citation: "Hatchard & Parker, Proc. R. Soc. A 235, 518 (1956), as tabulated in Kuhn, \
@@ -287,6 +293,8 @@ pub const HATCHARD_PARKER_0_15_M: QuantumYieldTable<'static> = QuantumYieldTable
     points: &[
         point(365.0, 1.18, M),
         point(366.0, 1.18, M),
+        point(436.0, 1.01, M),
+        point(468.0, 0.93, M),
         point(480.0, 0.94, M),
         point(509.0, 0.86, M),
         point(546.0, 0.15, M),
@@ -357,7 +365,9 @@ impl QuantumYieldTable<'_> {
     /// [`PhotochemError::QuantumYield`] for a malformed table.
     pub fn at(&self, wavelength: Wavelength) -> Result<ActinometerYield, PhotochemError> {
         self.validate()?;
-        let (phi, checked) = self.lookup(wavelength.nm())?;
+        // Snapped to 1 fm: `Wavelength` stores metres, so `from_nm(436.0).nm()` is not exactly
+        // 436.0, and a table's last row would otherwise be missed or interpolated.
+        let (phi, checked) = self.lookup(crate::spectral::spectrum::snap_nm(wavelength))?;
         Ok(ActinometerYield {
             quantum_yield: QuantumYield::new(phi)?,
             table: self.id,

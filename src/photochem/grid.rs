@@ -2,15 +2,16 @@
 //! actinometer quantum yield).
 //!
 //! [`Band::Line`] is one node of weight 1. [`Band::Led`] uses the same shape as
-//! [`crate::spectral::band`] — a Gaussian in photon energy whose width follows from the half-maximum
-//! wavelengths peak ± FWHM/2 — but weighted by **photons** (power ÷ photon energy), truncated
+//! [`crate::spectral::band`] — a Gaussian in photon energy placed so that its wavelength
+//! maximum and FWHM are the configured ones ([`LedShape`]) — but weighted by **photons**
+//! (power ÷ photon energy), truncated
 //! at ±[`ABSORPTION_TRUNCATION_SIGMA`] σ and sampled on [`ABSORPTION_GRID_POINTS`] equally
 //! spaced energies with trapezoid weights. The photon-weighted tail beyond ±4 σ holds about
 //! 6.3e-5 of the photons; a mean of values in [0, 1] (an absorbed fraction) over the truncated
 //! range differs from the full mean by at most that tail share.
 
 use crate::quantity::si;
-use crate::spectral::band::{Band, BandFactors};
+use crate::spectral::band::{Band, BandFactors, LedShape};
 
 use super::PhotochemError;
 
@@ -57,12 +58,21 @@ impl BandNodes {
         let kind = match *band {
             Band::Line(w) => Kind::Line { nm: w.nm() },
             Band::Led { peak, fwhm } => {
-                let half = fwhm.m() * 0.5;
-                let e0 = si::HC_J_M / peak.m();
-                let e_short = si::HC_J_M / (peak.m() - half);
-                let e_long = si::HC_J_M / (peak.m() + half);
-                // FWHM = 2 √(2 ln 2) σ for a Gaussian.
-                let sigma = (e_short - e_long) / (2.0 * libm::sqrt(2.0 * core::f64::consts::LN_2));
+                // The shape of `crate::spectral::band` (wavelength maximum and FWHM as configured). A
+                // validated band always solves; the fallback (the peak as the energy centre,
+                // the width from peak ± FWHM/2) is never reached.
+                let (e0, sigma) = match LedShape::new(peak, fwhm) {
+                    Ok(shape) => (shape.centre_energy_j(), shape.sigma_energy_j()),
+                    Err(_) => {
+                        let half = fwhm.m() * 0.5;
+                        let e_short = si::HC_J_M / (peak.m() - half);
+                        let e_long = si::HC_J_M / (peak.m() + half);
+                        (
+                            si::HC_J_M / peak.m(),
+                            (e_short - e_long) / (2.0 * libm::sqrt(2.0 * core::f64::consts::LN_2)),
+                        )
+                    }
+                };
                 let lo = e0 - ABSORPTION_TRUNCATION_SIGMA * sigma;
                 let step = 2.0 * ABSORPTION_TRUNCATION_SIGMA * sigma
                     / f64::from(ABSORPTION_GRID_POINTS - 1);

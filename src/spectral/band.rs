@@ -8,15 +8,23 @@
 //!
 //! Band shapes:
 //! - [`Band::Line`]: a single vacuum wavelength (a low-pressure mercury line, a laser);
-//! - [`Band::Led`]: an LED given by its peak and full width at half maximum, both in
-//!   wavelength. The model is a **Gaussian in photon energy**, truncated at ±6 σ: LED
-//!   emission follows the band-gap energy distribution, so it is close to symmetric in energy
-//!   and therefore skewed towards long wavelengths in a wavelength plot. The energy width is
-//!   taken from the two half-maximum wavelengths `peak ± FWHM/2`. The integral is a trapezoid
-//!   rule on [`LED_GRID_POINTS`] equally spaced energies, clipped to the supported wavelength
-//!   range 100–2500 nm.
+//! - [`Band::Led`]: an LED given by its peak and full width at half maximum **as a datasheet
+//!   states them**: the wavelength of maximum spectral power per nm, and the full width at
+//!   half maximum of the spectral power per nm, both in wavelength. The model is a **Gaussian
+//!   in photon energy** (LED emission follows the band-gap energy distribution, so it is
+//!   close to symmetric in energy and skewed towards long wavelengths in a wavelength plot),
+//!   truncated at ±6 σ about its energy centre. Its centre and width are solved at
+//!   configuration time ([`LedShape`]) so that, per nm of wavelength, its maximum lies at the
+//!   configured peak and its half-maximum points are the configured FWHM apart. (Placing the
+//!   energy centre at the configured peak, as earlier versions did, put the wavelength
+//!   maximum short of it — 0.10 nm at 365/10 nm, 0.20 nm at 405/15 nm, 0.32 nm at 450/20 nm
+//!   (computed, `tests/led_band.rs`) — because the Jacobian
+//!   dE/dλ ∝ 1/λ² favours short wavelengths.) The integral is a trapezoid rule on
+//!   [`LED_GRID_POINTS`] equally spaced energies, clipped to the supported wavelength range
+//!   100–2500 nm.
 
 use crate::quantity::{si, PhotonEnergy, Wavelength};
+use core::f64::consts::LN_2;
 
 /// Shortest vacuum wavelength a band may use, nm (vacuum-UV photodiodes stop near here).
 pub const MIN_WAVELENGTH_NM: f64 = 100.0;
@@ -34,12 +42,13 @@ pub enum Band {
     /// A single vacuum wavelength. Valid: finite, within
     /// [`MIN_WAVELENGTH_NM`] ..= [`MAX_WAVELENGTH_NM`].
     Line(Wavelength),
-    /// An LED-like band: Gaussian in photon energy with the given peak and FWHM (wavelength).
-    /// Valid: peak as for `Line`; FWHM finite, > 0 and ≤ peak/2.
+    /// An LED-like band: Gaussian in photon energy placed so that its spectral power per nm
+    /// peaks at `peak` with the full width at half maximum `fwhm` (both as a datasheet states
+    /// them; see [`LedShape`]). Valid: peak as for `Line`; FWHM finite, > 0 and ≤ peak/2.
     Led {
-        /// Peak (vacuum) wavelength.
+        /// Peak (vacuum) wavelength: the wavelength of maximum spectral power per nm.
         peak: Wavelength,
-        /// Full width at half maximum, in wavelength.
+        /// Full width at half maximum of the spectral power per nm, in wavelength.
         fwhm: Wavelength,
     },
 }
@@ -86,13 +95,9 @@ impl BandFactors {
                 })
             }
             Band::Led { peak, fwhm } => {
-                check_wavelength(peak)?;
-                let width = fwhm.nm();
-                if !width.is_finite() || width <= 0.0 || width > peak.nm() * 0.5 {
-                    return Err(BandError::Fwhm);
-                }
+                let shape = LedShape::new(peak, fwhm)?;
                 Ok(Self {
-                    photons_per_j: led_mean_inverse_energy(peak, fwhm),
+                    photons_per_j: led_mean_inverse_energy(&shape),
                 })
             }
         }
@@ -140,14 +145,163 @@ fn check_wavelength(w: Wavelength) -> Result<(), BandError> {
     }
 }
 
+/// The LED model in photon energy: a Gaussian in wavenumber u = 1/λ (proportional to photon
+/// energy, E = h·c·u), centre `u0` and standard deviation `sigma`, both in 1/nm, placed so
+/// that its spectral power **per nm of wavelength**,
+/// P(λ) ∝ exp(−½((1/λ − u0)/σ)²) / λ², has its maximum at the configured peak and its
+/// half-maximum wavelengths the configured FWHM apart.
+///
+/// Solved at configuration time (`libm`, no allocation, fixed iteration counts): the
+/// maximum of P(λ) lies where u² − u0·u − 2σ² = 0, so for a given σ the centre is
+/// u0 = u_p − 2σ²/u_p (u_p = 1/peak); the half-maximum points are found by Newton's method on
+/// the concave log P(u) − log P(u_p) + ln 2 (started outside, so it converges monotonically);
+/// σ is rescaled by configured/obtained FWHM until they agree to 1e-12 relative.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct LedShape {
+    u0_per_nm: f64,
+    sigma_per_nm: f64,
+    peak_nm: f64,
+}
+
+/// Outer iterations (σ rescaling) of [`LedShape::new`]; it converges in fewer than 10.
+const LED_SOLVE_OUTER: u32 = 60;
+/// Newton iterations for one half-maximum point.
+const LED_SOLVE_NEWTON: u32 = 100;
+
+impl LedShape {
+    /// Solve the shape for a datasheet peak (wavelength of maximum power per nm) and FWHM
+    /// (in wavelength). Valid as for [`Band::Led`].
+    ///
+    /// # Errors
+    /// [`BandError::Wavelength`] or [`BandError::Fwhm`] for invalid inputs, and
+    /// [`BandError::Fwhm`] if the width cannot be matched (not seen for valid inputs).
+    pub fn new(peak: Wavelength, fwhm: Wavelength) -> Result<Self, BandError> {
+        check_wavelength(peak)?;
+        let p = crate::spectral::spectrum::snap_nm(peak);
+        let w = crate::spectral::spectrum::snap_nm(fwhm);
+        if !w.is_finite() || w <= 0.0 || w > p * 0.5 {
+            return Err(BandError::Fwhm);
+        }
+        let up = 1.0 / p;
+        // Start from the energy width of the half-maximum wavelengths p ± w/2
+        // (FWHM = 2 √(2 ln 2) σ for a Gaussian).
+        let mut sigma =
+            (1.0 / (p - 0.5 * w) - 1.0 / (p + 0.5 * w)) / (2.0 * libm::sqrt(2.0 * LN_2));
+        for _ in 0..LED_SOLVE_OUTER {
+            let shape = Self::with_sigma(up, sigma, p);
+            let width = shape.fwhm_nm();
+            if !(width.is_finite() && width > 0.0) {
+                return Err(BandError::Fwhm);
+            }
+            let ratio = w / width;
+            if (ratio - 1.0).abs() <= 1e-12 {
+                return Ok(shape);
+            }
+            // u0 > 0 needs σ < u_p/√2; valid widths stay far below that.
+            sigma = libm::fmin(sigma * ratio, 0.5 * up);
+        }
+        Err(BandError::Fwhm)
+    }
+
+    fn with_sigma(up: f64, sigma: f64, peak_nm: f64) -> Self {
+        Self {
+            u0_per_nm: up - 2.0 * sigma * sigma / up,
+            sigma_per_nm: sigma,
+            peak_nm,
+        }
+    }
+
+    /// Centre of the Gaussian in wavenumber, 1/nm (photon energy / (h·c)).
+    #[must_use]
+    pub const fn centre_per_nm(&self) -> f64 {
+        self.u0_per_nm
+    }
+
+    /// Standard deviation of the Gaussian in wavenumber, 1/nm.
+    #[must_use]
+    pub const fn sigma_per_nm(&self) -> f64 {
+        self.sigma_per_nm
+    }
+
+    /// Centre photon energy, J.
+    #[must_use]
+    pub fn centre_energy_j(&self) -> f64 {
+        si::HC_J_M * self.u0_per_nm * 1e9
+    }
+
+    /// Standard deviation in photon energy, J.
+    #[must_use]
+    pub fn sigma_energy_j(&self) -> f64 {
+        si::HC_J_M * self.sigma_per_nm * 1e9
+    }
+
+    /// The configured peak, nm (the wavelength maximum).
+    #[must_use]
+    pub const fn peak_nm(&self) -> f64 {
+        self.peak_nm
+    }
+
+    /// Relative spectral power per nm at `nm` (1 at the maximum; untruncated). Valid: nm > 0.
+    #[must_use]
+    pub fn density_nm(&self, nm: f64) -> f64 {
+        libm::exp(self.log_relative(1.0 / nm))
+    }
+
+    /// ln(P(u)/P(u_p)) with u = 1/λ.
+    fn log_relative(&self, u: f64) -> f64 {
+        let up = 1.0 / self.peak_nm;
+        let z = (u - self.u0_per_nm) / self.sigma_per_nm;
+        let zp = (up - self.u0_per_nm) / self.sigma_per_nm;
+        -0.5 * (z * z - zp * zp) + 2.0 * libm::log(u / up)
+    }
+
+    /// The two half-maximum wavelengths (short, long), nm, of the model as solved.
+    #[must_use]
+    pub fn half_maximum_nm(&self) -> (f64, f64) {
+        let up = 1.0 / self.peak_nm;
+        let s = self.sigma_per_nm;
+        let short = self.half_point(up + 4.0 * s);
+        let long = self.half_point(libm::fmax(up - 4.0 * s, up * 1e-3));
+        (1.0 / short, 1.0 / long)
+    }
+
+    /// Full width at half maximum per nm of the model as solved, nm.
+    #[must_use]
+    pub fn fwhm_nm(&self) -> f64 {
+        let (a, b) = self.half_maximum_nm();
+        b - a
+    }
+
+    /// Newton on f(u) = ln(P(u)/P(u_p)) + ln 2 from a start where f < 0: f is concave in u
+    /// (f'' = −1/σ² − 2/u² < 0), so the iterates approach the root monotonically.
+    fn half_point(&self, start: f64) -> f64 {
+        let s2 = self.sigma_per_nm * self.sigma_per_nm;
+        let mut u = start;
+        for _ in 0..LED_SOLVE_NEWTON {
+            let f = self.log_relative(u) + LN_2;
+            let d = -(u - self.u0_per_nm) / s2 + 2.0 / u;
+            if d == 0.0 || !d.is_finite() {
+                break;
+            }
+            let next = u - f / d;
+            if !(next.is_finite() && next > 0.0) {
+                break;
+            }
+            let done = (next - u).abs() <= 1e-16 * u;
+            u = next;
+            if done {
+                break;
+            }
+        }
+        u
+    }
+}
+
 /// ⟨1/E⟩ over a Gaussian power spectrum in energy, trapezoid rule on an equal grid.
-fn led_mean_inverse_energy(peak: Wavelength, fwhm: Wavelength) -> f64 {
-    let half = fwhm.m() * 0.5;
-    let e0 = si::HC_J_M / peak.m();
-    let e_short = si::HC_J_M / (peak.m() - half);
-    let e_long = si::HC_J_M / (peak.m() + half);
-    // FWHM = 2 √(2 ln 2) σ for a Gaussian.
-    let sigma = (e_short - e_long) / (2.0 * libm::sqrt(2.0 * core::f64::consts::LN_2));
+fn led_mean_inverse_energy(shape: &LedShape) -> f64 {
+    let e0 = shape.centre_energy_j();
+    let sigma = shape.sigma_energy_j();
     // Truncate at ±6 σ, clipped to the supported wavelength range (so a very wide band never
     // reaches zero or negative energies).
     let lo = libm::fmax(
@@ -217,10 +371,9 @@ mod tests {
         let peak = Wavelength::from_nm(365.0);
         let fwhm = Wavelength::from_nm(12.0);
         let f = BandFactors::new(&Band::Led { peak, fwhm }).unwrap();
-        let e0 = si::HC_J_M / peak.m();
-        let es = si::HC_J_M / (peak.m() - fwhm.m() / 2.0);
-        let el = si::HC_J_M / (peak.m() + fwhm.m() / 2.0);
-        let s = (es - el) / (2.0 * (2.0 * core::f64::consts::LN_2).sqrt()) / e0;
+        let shape = LedShape::new(peak, fwhm).unwrap();
+        let e0 = shape.centre_energy_j();
+        let s = shape.sigma_energy_j() / e0;
         let expected = (1.0 + s * s + 3.0 * s.powi(4)) / e0;
         // Truncation at ±6σ and the grid leave < 1e-7 relative difference.
         assert!(

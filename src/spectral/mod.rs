@@ -8,5 +8,6 @@
 //! resulting factors; the per-sample path never touches a spectrum.
 
 pub mod band;
+pub mod band_tolerance;
 pub mod spectrum;
 pub mod weighting;

@@ -19,8 +19,9 @@
 //! A [`Source`] is a line (a delta function), an LED-like band or a tabulated spectrum. The
 //! LED model is the one of [`Band::Led`]: a **Gaussian in photon energy** (LED emission
 //! follows the band-gap energy distribution, so the shape is close to symmetric in energy and
-//! skewed towards long wavelengths in a wavelength plot), its energy width taken from the two
-//! half-maximum wavelengths `peak ± FWHM/2`, truncated at ±[`LED_TRUNCATION_SIGMA`] σ and at
+//! skewed towards long wavelengths in a wavelength plot), its centre and width solved so that
+//! the wavelength maximum and FWHM per nm are the configured ones ([`LedShape`]),
+//! truncated at ±[`LED_TRUNCATION_SIGMA`] σ about the energy centre and at
 //! the supported wavelength range. In wavelength its spectral density is
 //! `exp(−½((hc/λ − E₀)/σ)²) · hc/λ²` (the Jacobian of E = hc/λ).
 //!
@@ -56,7 +57,8 @@
 use crate::irradiance::Calibration;
 use crate::quantity::{si, Area, IrradiancePerCurrent, Responsivity, Wavelength};
 use crate::spectral::band::{
-    Band, BandError, BandFactors, LED_TRUNCATION_SIGMA, MAX_WAVELENGTH_NM, MIN_WAVELENGTH_NM,
+    Band, BandError, BandFactors, LedShape, LED_TRUNCATION_SIGMA, MAX_WAVELENGTH_NM,
+    MIN_WAVELENGTH_NM,
 };
 use crate::spectral::weighting::Weighting;
 
@@ -494,12 +496,12 @@ impl<'a> Shape<'a> {
             }
             Source::Led { peak, fwhm } => {
                 BandFactors::new(&Band::Led { peak, fwhm })?;
-                let p = snap_nm(peak);
-                let half = 0.5 * snap_nm(fwhm);
-                let u0 = 1.0 / p;
-                // FWHM = 2 √(2 ln 2) σ for a Gaussian; the energy width comes from p ± FWHM/2.
-                let sigma = (1.0 / (p - half) - 1.0 / (p + half))
-                    / (2.0 * libm::sqrt(2.0 * core::f64::consts::LN_2));
+                // Centre and width solved so the wavelength maximum and FWHM per nm are the
+                // configured ones (see `LedShape`).
+                let shape = LedShape::new(peak, fwhm)?;
+                let p = shape.peak_nm();
+                let u0 = shape.centre_per_nm();
+                let sigma = shape.sigma_per_nm();
                 let u_hi = u0 + LED_TRUNCATION_SIGMA * sigma;
                 let u_lo = (u0 - LED_TRUNCATION_SIGMA * sigma).max(1.0 / MAX_WAVELENGTH_NM);
                 let lo_nm = (1.0 / u_hi).max(MIN_WAVELENGTH_NM);
@@ -1138,8 +1140,9 @@ pub fn corrected_certificate(
 
 /// Refractive index of standard air minus one, (n − 1), at a wavelength: the dispersion
 /// formula of Peck & Reeder, J. Opt. Soc. Am. 62, 958 (1972) (dry air, 15 °C, 101 325 Pa,
-/// 0.033 % CO₂; coefficients from memory, checked against the vacuum values computed in the
-/// project's reference table to 0.1 pm). Stated valid 230–1690 nm; `None` outside 200–2000 nm.
+/// 0.03 % CO₂; reference key PR1972; coefficients from memory). EDLEN1966 and CIDDOR1996
+/// (450 ppm CO₂) give n − 1 within 2·10⁻⁹ and 1.9·10⁻⁸ of it at 254–546 nm (computed from
+/// their formulas, also from memory). Stated valid 230–1690 nm; `None` outside 200–2000 nm.
 #[must_use]
 pub fn air_refractivity(w: Wavelength) -> Option<f64> {
     let um = w.nm() * 1e-3;
@@ -1152,15 +1155,18 @@ pub fn air_refractivity(w: Wavelength) -> Option<f64> {
 
 /// The vacuum wavelength of a standard-air wavelength (line lists such as the mercury lines
 /// are printed in air; every wavelength in this crate is a vacuum wavelength). `None` outside
-/// the range of [`air_refractivity`]. The refractivity is evaluated at the air wavelength;
-/// the error of that shortcut is below 10⁻¹⁰ relative.
+/// the range of [`air_refractivity`]. The refractivity is evaluated at the air wavelength,
+/// not the vacuum one; that shortcut makes the result long by about 2·10⁻⁸ relative at
+/// 254 nm (5·10⁻⁶ nm), 7.5·10⁻⁹ at 365 nm and 3·10⁻⁹ at 546 nm (computed by iterating
+/// λ_vac = λ_air · n(λ_vac) with the same formula) — far below the ±0.001 nm of the line
+/// lists and the 2·10⁻⁸ spread between the air formulas themselves.
 #[must_use]
 pub fn air_to_vacuum(air: Wavelength) -> Option<Wavelength> {
     air_refractivity(air).map(|r| Wavelength::from_m(air.m() * (1.0 + r)))
 }
 
-/// Mercury emission lines as printed, **standard-air** wavelengths in nm (NIST Handbook of
-/// Basic Atomic Spectroscopic Data / Sansonetti, Salit & Reader, Appl. Opt. 35, 74 (1996)).
+/// Mercury emission lines as printed, **standard-air** wavelengths in nm (reference key
+/// SSR1996: Sansonetti, Salit & Reader, Appl. Opt. 35, 74 (1996) and the NIST ASD).
 /// Convert with [`air_to_vacuum`] before use. The third decimal of 253.652 and 296.728 nm is
 /// from memory (the two-decimal values are verified).
 pub mod mercury_air_nm {

@@ -122,7 +122,7 @@ fn ranges_are_half_open_and_validated() {
 
 #[test]
 fn flat_spectrum_oracle_uva_is_85() {
-    // reference-values §10 (computed from the definition): a flat 1 W m⁻² nm⁻¹ spectrum
+    // Computed from the definition E_UVA = ∫₃₁₅⁴⁰⁰ E_λ dλ (ICNIRP2004): a flat 1 W m⁻² nm⁻¹ spectrum
     // 280–400 nm has E_UVA = ∫₃₁₅⁴⁰⁰ = 85 W/m², exactly and by the trapezoid rule on a 1-nm
     // grid (a rectangle sum including both 315 and 400 nm samples would give 86).
     let flat: Spectrum<2> = Spectrum::from_nm(&[(280.0, 1.0), (400.0, 1.0)]).unwrap();
@@ -232,7 +232,7 @@ fn led_photons_per_joule_agree_with_the_band_module() {
 
 #[test]
 fn detector_chain_reproduces_the_sensor_check() {
-    // reference-values §7 sensor-chain check (computed): R = 0.20 A/W, area 1 mm²,
+    // Sensor-chain check computed from I = R · E · A: R = 0.20 A/W, area 1 mm²,
     // E = 10 W/m² → I = 2.0 µA, and back to 10 W/m².
     let rule = IntegrationRule::default();
     let det = SpectrumRef::from_nm(&FLAT).unwrap();
@@ -261,7 +261,7 @@ fn detector_chain_reproduces_the_sensor_check() {
 
 #[test]
 fn ideal_detector_effective_responsivity() {
-    // R = QE · λ[nm] / 1239.841 984 A/W (reference-values §1a, computed): a QE = 1
+    // R = QE · e·λ/(h·c) = QE · λ[nm] / 1239.841 984 A/W (SI2019 constants, computed): a QE = 1
     // detector table (R ∝ λ, exact at its points and linear in between) seen by a line.
     let ideal = [
         (200.0, 200.0 / 1_239.841_984),
@@ -288,7 +288,7 @@ fn ideal_detector_effective_responsivity() {
             &rule,
         )
         .unwrap();
-        // Printed to 4 decimals in reference-values §7: half a unit of the last digit.
+        // Written to 4 decimals (computed by hand): half a unit of the last digit.
         assert!(
             (f.effective_responsivity().a_per_w() - r).abs() <= 0.000_05,
             "{line}"
@@ -545,8 +545,8 @@ fn wavelengths_snap_onto_table_points() {
 
 #[test]
 fn mercury_lines_air_to_vacuum() {
-    // reference-values §6: NIST standard-air wavelengths and the vacuum wavelengths computed
-    // there (Peck & Reeder / Edlén agree to 0.1 pm); line positions to ±0.001 nm.
+    // SSR1996 / NIST ASD standard-air wavelengths; the vacuum wavelengths computed by hand
+    // with PR1972 (EDLEN1966 agrees to 2e-9 in n − 1, computed); line positions ±0.001 nm.
     use mercury_air_nm::*;
     for (air, vac) in [
         (HG_253_652, 253.728),
@@ -562,12 +562,13 @@ fn mercury_lines_air_to_vacuum() {
         let v = air_to_vacuum(nm(air)).unwrap().nm();
         assert!((v - vac).abs() <= 0.001, "{air}: {v}");
     }
-    // n_air − 1 ≈ 3.0e-4 at 254 nm and 2.8e-4 at 436 nm (reference-values §1b).
+    // n_air − 1 ≈ 3.0e-4 at 254 nm and 2.8e-4 at 436 nm (PR1972, EDLEN1966, CIDDOR1996 all
+    // give these to two digits; computed from their dispersion formulas).
     assert!((air_refractivity(nm(254.0)).unwrap() - 3.0e-4).abs() < 0.05e-4);
     assert!((air_refractivity(nm(436.0)).unwrap() - 2.8e-4).abs() < 0.05e-4);
     assert_eq!(air_to_vacuum(nm(150.0)), None);
     // Using the air value overstates the photon energy by ~0.03 %: 4.886 50 eV (vacuum)
-    // vs 4.887 96 eV (air value wrongly used), computed in reference-values §1b.
+    // vs 4.887 96 eV (air value wrongly used), computed from SI2019 constants and PR1972.
     let e_vac = air_to_vacuum(nm(HG_253_652)).unwrap().photon_energy().ev();
     let e_air = nm(HG_253_652).photon_energy().ev();
     assert!((e_vac - 4.886_50).abs() <= 0.000_005);

@@ -9,6 +9,7 @@
 //! | `CieErythema` | [`cie_erythema`] | lower limit (default 250 nm) ..= 400 nm | ISO/CIE 17166 (CIE S 007) |
 //! | `UvHazard` | [`uv_hazard`], [`UV_HAZARD_TABLE`] log-linear | 180 ..= 400 nm | ICNIRP 2004 / IEC 62471 S(λ) |
 //! | `UvaUnweighted` | 1 | 315 ..= 400 nm | ICNIRP 2004 / IEC 62471 UV-A eye limit |
+//! | `BlueLightHazard` | [`blue_light_hazard`], [`BLUE_LIGHT_HAZARD_TABLE`] | 300 ..= 700 nm | IEC 62471 / ICNIRP 2013 B(λ) |
 //! | `Table` | a user table, linear or log-linear | the table's span | user data |
 //!
 //! The standard weightings are defined on their standards' **closed** ranges (S(400 nm) has a
@@ -45,24 +46,122 @@ pub const SED_J_PER_M2: f64 = 100.0;
 /// Daily limit of UV-hazard-weighted radiant exposure, J/m² within any 8 h (ICNIRP 2004;
 /// IEC 62471 §4.3.1; EU Directive 2006/25/EC Annex I).
 pub const UV_HAZARD_LIMIT_J_PER_M2: f64 = 30.0;
-/// Default lower limit of the erythemal integral, nm (WHO 2002; NOAA Brewer practice uses
+/// Default lower limit of the erythemal integral, nm (WHO 2002; the NOAA Brewer network's
+/// practice — common practice, no source — uses
 /// 286.5 nm).
 pub const ERYTHEMA_LOWER_LIMIT_NM: f64 = 250.0;
 /// Upper end of the erythema spectrum, nm (ISO/CIE 17166).
 pub const ERYTHEMA_UPPER_LIMIT_NM: f64 = 400.0;
 /// UV-A range of the ICNIRP 2004 / IEC 62471 unweighted eye limit, nm.
 pub const UVA_LIMIT_RANGE_NM: (f64, f64) = (315.0, 400.0);
+/// Range of the blue-light hazard function B(λ), nm (IEC62471 Table 4.2; ICNIRP2013).
+pub const BLUE_LIGHT_RANGE_NM: (f64, f64) = (300.0, 700.0);
+/// Small-source blue-light limit on the weighted radiant exposure, J/m²: E_B · t ≤ 100 J/m²
+/// for t ≤ [`BLUE_LIGHT_SMALL_SOURCE_BREAK_S`] (IEC62471 §4.3.4; values from memory).
+pub const BLUE_LIGHT_SMALL_SOURCE_LIMIT_J_PER_M2: f64 = 100.0;
+/// Exposure duration at which the small-source blue-light limit changes form, s
+/// (IEC62471 §4.3.4: 10⁴ s; from memory).
+pub const BLUE_LIGHT_SMALL_SOURCE_BREAK_S: f64 = 1.0e4;
+/// Small-source blue-light limit on the weighted irradiance for exposures longer than
+/// [`BLUE_LIGHT_SMALL_SOURCE_BREAK_S`], W/m² (IEC62471 §4.3.4: E_B ≤ 0.01 W/m²; from memory).
+/// Equals the exposure limit divided by the break time, so the two forms meet at 10⁴ s.
+pub const BLUE_LIGHT_SMALL_SOURCE_MAX_W_PER_M2: f64 = 0.01;
+/// Largest angular subtense of a "small source" for the irradiance form of the blue-light
+/// limit, rad (IEC62471 §4.3.4: α < 0.011 rad; from memory). Larger sources need the
+/// radiance limits, which this crate does not implement (see [`Weighting::BlueLightHazard`]).
+pub const BLUE_LIGHT_SMALL_SOURCE_MAX_ANGLE_RAD: f64 = 0.011;
+
+/// Blue-light hazard function B(λ), (nm, B), the tabulated part 300–500 nm in 5 nm steps.
+///
+/// Source: IEC62471 Table 4.2 (the same function as ICNIRP2013 and EU2006 Annex I Table 1.3;
+/// see [`crate::references`]). **Values from memory**, not read in the printed tables; the
+/// whole function is compared with the B(λ) of the luxpy library (its IEC 62471 data, version
+/// named in `hosttests/refcheck/`) by `hosttests/tests/refcheck.rs`. Printed digits are kept
+/// exactly. Above 500 nm the standard gives a formula, not rows:
+/// B(λ) = 10^((450 − λ)/50) for 500 < λ ≤ 600 nm and 0.001 for 600 < λ ≤ 700 nm
+/// ([`blue_light_hazard`]). Between rows B(λ) is interpolated linearly (the standard gives
+/// no interpolation rule; linear is common practice, no source).
+pub const BLUE_LIGHT_HAZARD_TABLE: [(f64, f64); 41] = [
+    (300.0, 0.01),
+    (305.0, 0.01),
+    (310.0, 0.01),
+    (315.0, 0.01),
+    (320.0, 0.01),
+    (325.0, 0.01),
+    (330.0, 0.01),
+    (335.0, 0.01),
+    (340.0, 0.01),
+    (345.0, 0.01),
+    (350.0, 0.01),
+    (355.0, 0.01),
+    (360.0, 0.01),
+    (365.0, 0.01),
+    (370.0, 0.01),
+    (375.0, 0.01),
+    (380.0, 0.01),
+    (385.0, 0.013),
+    (390.0, 0.025),
+    (395.0, 0.05),
+    (400.0, 0.10),
+    (405.0, 0.20),
+    (410.0, 0.40),
+    (415.0, 0.80),
+    (420.0, 0.90),
+    (425.0, 0.95),
+    (430.0, 0.98),
+    (435.0, 1.00),
+    (440.0, 1.00),
+    (445.0, 0.97),
+    (450.0, 0.94),
+    (455.0, 0.90),
+    (460.0, 0.80),
+    (465.0, 0.70),
+    (470.0, 0.62),
+    (475.0, 0.55),
+    (480.0, 0.45),
+    (485.0, 0.40),
+    (490.0, 0.22),
+    (495.0, 0.16),
+    (500.0, 0.10),
+];
+
+fn blue_table() -> SpectrumRef<'static> {
+    SpectrumRef::from_nm_static(&BLUE_LIGHT_HAZARD_TABLE)
+}
+
+fn blue_light_nm(nm: f64) -> f64 {
+    let (lo, hi) = BLUE_LIGHT_RANGE_NM;
+    if !(lo..=hi).contains(&nm) {
+        0.0
+    } else if nm <= 500.0 {
+        blue_table().linear_nm(nm).unwrap_or(0.0)
+    } else if nm <= 600.0 {
+        exp10((450.0 - nm) / 50.0)
+    } else {
+        0.001
+    }
+}
+
+/// The blue-light hazard function B(λ) (IEC62471 Table 4.2, ICNIRP2013): the rows of
+/// [`BLUE_LIGHT_HAZARD_TABLE`] (a row returns its printed value exactly, linear between
+/// rows) for 300–500 nm, 10^((450 − λ)/50) for 500 < λ ≤ 600 nm, 0.001 for 600 < λ ≤ 700 nm,
+/// 0 outside 300 ..= 700 nm. Dimensionless, 0 ≤ B ≤ 1. Configuration time only (`libm::exp`).
+#[must_use]
+pub fn blue_light_hazard(w: Wavelength) -> f64 {
+    blue_light_nm(snap_nm(w))
+}
+
 /// Largest number of weightings a [`FactorSet`] holds.
 pub const MAX_WEIGHTINGS: usize = 6;
 
 /// ICNIRP 2004 relative spectral effectiveness S(λ), (nm, S), 180–400 nm.
 ///
-/// Sources: (1) the Swedish compilation "Tabell 11. Allmänna strålskyddsvärden enligt SSI FS
-/// 1990:1; ICNIRP och ACGIH"; (2) the ACGIH TLV sheet of the far-UVC safety data set
-/// (`data/action_spectra_and_tlv_data.xlsx`, sheet "TLV"), which equals ICNIRP 2004 from
-/// 240 nm. Rows marked † are from (2) only; rows marked ‡ from (1) only (below 240 nm ACGIH
-/// 2022 differs; ICNIRP 2004 is shipped); unmarked rows agree in both. Printed digits are kept
-/// exactly.
+/// Source: ICNIRP2004 Table 1 (see [`crate::references`]); from 240 nm the same values are the
+/// ACGIH2022 S(λ). The rows were read in two independent reproductions of these tables, not
+/// in the printed ICNIRP guideline itself: rows marked (1) (2) agree in both; rows marked †
+/// were found only in a reproduction of the ACGIH table (equal to ICNIRP2004 from 240 nm);
+/// rows marked ‡ (below 240 nm) only in a reproduction of the ICNIRP table (ACGIH2022
+/// differs there; ICNIRP2004 is shipped). Printed digits are kept exactly.
 pub const UV_HAZARD_TABLE: [(f64, f64); 56] = [
     (180.0, 0.012),    // ‡
     (190.0, 0.019),    // ‡
@@ -195,6 +294,13 @@ pub enum Weighting<'a> {
     UvHazard,
     /// Unweighted UV-A, 315–400 nm (ICNIRP 2004 / IEC 62471 eye limit).
     UvaUnweighted,
+    /// The blue-light (retinal photochemical) hazard function B(λ), 300–700 nm
+    /// ([`blue_light_hazard`]). The weighted irradiance E_B it gives is the quantity of the
+    /// **small-source** limit ([`blue_light_small_source_max_time`]); a photodiode measures
+    /// irradiance, not radiance, so the large-source radiance limits (L_B in a field of view
+    /// that depends on the exposure time) are not implemented: assess large sources with a
+    /// radiance measurement.
+    BlueLightHazard,
     /// A user table. It must cover the configured band.
     Table {
         /// The caller's identifier, reported in [`WeightingKind::User`].
@@ -221,6 +327,7 @@ impl Weighting<'_> {
             Self::CieErythema { .. } => WeightingKind::CieErythema,
             Self::UvHazard => WeightingKind::UvHazard,
             Self::UvaUnweighted => WeightingKind::UvaUnweighted,
+            Self::BlueLightHazard => WeightingKind::BlueLightHazard,
             Self::Table { id, .. } => WeightingKind::User(*id),
         }
     }
@@ -280,6 +387,7 @@ impl Weighting<'_> {
             Self::CieErythema { lower_limit } => (snap_nm(*lower_limit), ERYTHEMA_UPPER_LIMIT_NM),
             Self::UvHazard => hazard_table().span_nm(),
             Self::UvaUnweighted => UVA_LIMIT_RANGE_NM,
+            Self::BlueLightHazard => BLUE_LIGHT_RANGE_NM,
             Self::Table { table, .. } => table.span_nm(),
         }
     }
@@ -302,6 +410,7 @@ impl Weighting<'_> {
             Self::None | Self::Window(_) | Self::UvaUnweighted => 1.0,
             Self::CieErythema { .. } => erythema_nm(nm),
             Self::UvHazard => hazard_table().log_linear_nm(nm).unwrap_or(0.0),
+            Self::BlueLightHazard => blue_light_nm(nm),
             Self::Table {
                 table,
                 interpolation,
@@ -319,6 +428,9 @@ impl Weighting<'_> {
         match self {
             Self::CieErythema { .. } => [298.0, 328.0].into_iter().find(|&b| b > nm),
             Self::UvHazard => hazard_table().next_point_after(nm),
+            Self::BlueLightHazard => blue_table()
+                .next_point_after(nm)
+                .or_else(|| [600.0, BLUE_LIGHT_RANGE_NM.1].into_iter().find(|&b| b > nm)),
             Self::Table { table, .. } => table.next_point_after(nm),
             _ => None,
         }
@@ -339,6 +451,8 @@ pub enum WeightingKind {
     UvHazard,
     /// Unweighted UV-A 315–400 nm.
     UvaUnweighted,
+    /// Blue-light hazard B(λ), 300–700 nm (IEC 62471 / ICNIRP 2013).
+    BlueLightHazard,
     /// A user table with the caller's identifier.
     User(u16),
 }
@@ -539,6 +653,47 @@ pub fn uva_eye_max_time(e_uva: Irradiance, rule: UvaEyeRule) -> TimeLimit {
         UvaEyeRule::Iec62471 if e <= 10.0 => TimeLimit::Unlimited,
         _ => TimeLimit::Within(Seconds::from_s(1.0e4 / e)),
     }
+}
+
+/// Allowed blue-light-weighted radiant exposure H_B after an exposure lasting `duration`,
+/// small source (IEC62471 §4.3.4, from memory): 100 J/m² for t ≤ 10⁴ s, then
+/// 0.01 W/m² × t — that is, max(100 J/m², 0.01 W/m² × t), continuous at 10⁴ s. `duration` in
+/// s, finite and ≥ 0 (NaN or negative gives 100 J/m²). Kind [`WeightingKind::BlueLightHazard`].
+#[must_use]
+pub fn blue_light_small_source_allowance(duration: Seconds) -> WeightedExposure {
+    let t = duration.s();
+    let j = if t.is_finite() {
+        libm::fmax(
+            BLUE_LIGHT_SMALL_SOURCE_LIMIT_J_PER_M2,
+            BLUE_LIGHT_SMALL_SOURCE_MAX_W_PER_M2 * t,
+        )
+    } else if t > 0.0 {
+        f64::INFINITY
+    } else {
+        BLUE_LIGHT_SMALL_SOURCE_LIMIT_J_PER_M2
+    };
+    WeightedExposure::from_j_per_m2(j, WeightingKind::BlueLightHazard)
+}
+
+/// Maximum exposure time under the small-source blue-light limit (IEC62471 §4.3.4, from
+/// memory) for a blue-light-weighted irradiance E_B: `Unlimited` for E_B ≤ 0.01 W/m² (or zero,
+/// negative, NaN), else t_max = 100 J/m² / E_B (< 10⁴ s). `None` if `e_b` is not a
+/// [`WeightingKind::BlueLightHazard`] quantity. Valid only for a source subtending less than
+/// [`BLUE_LIGHT_SMALL_SOURCE_MAX_ANGLE_RAD`] at the eye.
+///
+/// For the exposure monitor: a rolling window of 10⁴ s with a limit of 100 J/m² on the
+/// B(λ)-weighted exposure enforces both forms (E_B · t ≤ 100 J/m² within any 10⁴ s; a mean
+/// E_B ≤ 0.01 W/m² over every 10⁴ s of a longer exposure).
+#[must_use]
+pub fn blue_light_small_source_max_time(e_b: WeightedIrradiance) -> Option<TimeLimit> {
+    (e_b.kind == WeightingKind::BlueLightHazard).then(|| {
+        let e = e_b.w_per_m2;
+        if e.is_nan() || e <= BLUE_LIGHT_SMALL_SOURCE_MAX_W_PER_M2 {
+            TimeLimit::Unlimited
+        } else {
+            TimeLimit::Within(Seconds::from_s(BLUE_LIGHT_SMALL_SOURCE_LIMIT_J_PER_M2 / e))
+        }
+    })
 }
 
 /// A weighted (effective) irradiance, W/m², tagged with its weighting.
@@ -827,6 +982,14 @@ impl FactorSet {
     pub fn sed(&self, band: RadiantExposure) -> Option<f64> {
         self.weighted_exposure(WeightingKind::CieErythema, band)
             .and_then(WeightedExposure::sed)
+    }
+
+    /// Small-source blue-light t_max at a band irradiance, if the blue-light weighting is
+    /// configured (see [`blue_light_small_source_max_time`]).
+    #[must_use]
+    pub fn blue_light_max_time(&self, band: Irradiance) -> Option<TimeLimit> {
+        self.weighted_irradiance(WeightingKind::BlueLightHazard, band)
+            .and_then(blue_light_small_source_max_time)
     }
 
     /// t_max = 30/E_eff at a band irradiance, if the UV hazard weighting is configured.

@@ -66,14 +66,15 @@ fn hazard_spot_values_with_sources() {
 
 #[test]
 fn hazard_interpolation_against_the_directive_1_nm_values() {
-    // EU Directive 2006/25/EC Annex I Table 1.2 (as reproduced in the UK Control of
-    // Artificial Optical Radiation schedule). An interpolator is expected within ±0.5 %
-    // (reference-values D6); where the log-linear value rounds to the printed digits it is
-    // also checked to half a unit of the last digit.
+    // EU2006 Annex I Table 1.2 (1 nm values, read in a national regulation reproducing
+    // it). Log-linear interpolation of ICNIRP2004 Table 1 differs from the 1 nm table by up
+    // to 0.5 % (228 nm: 0.1729 against 0.1737, computed), so an interpolator is expected
+    // within ±0.5 %; where the log-linear value rounds to the printed digits it is also
+    // checked to half a unit of the last digit.
     for (x, printed, half_unit, rounds) in [
         (180.0, 0.0120, 0.000_05, true),
         (181.0, 0.0126, 0.000_05, true),
-        (228.0, 0.1737, 0.000_05, false), // log-linear gives 0.1729: D6
+        (228.0, 0.1737, 0.000_05, false), // log-linear gives 0.1729 (computed)
         (276.0, 0.9434, 0.000_05, true),
         (324.0, 0.000_520, 0.000_000_5, true),
         (372.0, 0.000_086, 0.000_000_5, true),
@@ -86,8 +87,8 @@ fn hazard_interpolation_against_the_directive_1_nm_values() {
 
 #[test]
 fn erythema_values_140_form() {
-    // Computed from the ISO/CIE 17166 formula (reference-values §2b), printed to six
-    // significant digits there: compared at half a unit of the last printed digit.
+    // Computed from the ISO17166 formula independently of this crate,
+    // written to six significant digits: compared at half a unit of the last digit.
     for (x, v, half_unit) in [
         (250.0, 1.0, 0.0),
         (298.0, 1.0, 0.0),
@@ -111,7 +112,7 @@ fn erythema_values_140_form() {
         let s = cie_erythema(nm(x));
         assert!((s - v).abs() <= half_unit, "{x}: {s}");
     }
-    // D1 regression: s_er(340) = 1.000e-3 (10^(0.015 · (140 − 340)) = 10^−3).
+    // Regression for the 140 form (ISO17166): s_er(340) = 1.000e-3 (10^(0.015 · (140 − 340)) = 10^−3).
     assert!(rel(cie_erythema(nm(340.0)), 1.0e-3) < 1e-12);
     // The 140 form, not 139: the older form is 10^−0.015 (3.39 %) lower above 328 nm.
     let old_139 = libm::exp10(0.015 * (139.0 - 350.0));
@@ -132,7 +133,8 @@ fn erythema_is_continuous_at_328_nm() {
 
 #[test]
 fn erythema_rounded_published_values() {
-    // Swedish compilation "Tabell 12" (citing CIE 1998), printed rounded values.
+    // ISO17166 (CIE S 007, 1998) s_er(λ), rounded values as printed in a reproduction of
+    // the CIE table (not read in the standard itself): half a unit of the last digit.
     for (x, printed, half_unit) in [
         (300.0, 0.65, 0.005),
         (310.0, 0.074, 0.0005),
@@ -157,13 +159,14 @@ fn uv_index_examples() {
     assert!(rel(u.value(), 8.0) < 1e-15);
     assert_eq!(u.rounded(), 8);
     assert_eq!(u.category(), UvIndexCategory::VeryHigh);
-    // SMHI units page: E_er = 75 mW/m² → UVI 3.
+    // WHO2002: UVI = 40 m²/W × E_er, so E_er = 75 mW/m² → UVI 3 (computed).
     let u = UvIndex::from_erythemal_w_per_m2(0.075);
     assert_eq!(u.rounded(), 3);
     assert_eq!(u.category(), UvIndexCategory::Moderate);
     // 1 UVI = 25 mW/m² erythemal (WHO 2002, computed 1/40).
     assert!(rel(UvIndex::from_erythemal_w_per_m2(0.025).value(), 1.0) < 1e-15);
-    // WHO 2002 categories of the rounded index (reference-values D11: round first).
+    // WHO2002 categories of the rounded index (the guide reports the index rounded to an
+    // integer; classify after rounding).
     for (e_er, cat) in [
         (2.49 / 40.0, UvIndexCategory::Low),
         (2.5 / 40.0, UvIndexCategory::Moderate),
@@ -185,8 +188,8 @@ fn uv_index_examples() {
 
 #[test]
 fn sed_and_time_at_uvi_1() {
-    // 1 h at UVI 1 = 90 J/m² = 0.9 SED (McKenzie, "scaling UV damage"; also computed
-    // 0.025 × 3600); 1 SED = 100 J/m² (ISO 17166 / CIE S 007).
+    // 1 h at UVI 1 = 90 J/m² = 0.9 SED: computed from WHO2002 (UVI 1 = 1/40 W/m² =
+    // 0.025 W/m² erythemal; × 3600 s) and ISO17166 (1 SED = 100 J/m²).
     let e = WeightedIrradiance::from_w_per_m2(0.025, WeightingKind::CieErythema);
     let h = e * Seconds::from_s(3600.0);
     assert!(rel(h.j_per_m2(), 90.0) < 1e-12);
@@ -203,8 +206,9 @@ fn sed_and_time_at_uvi_1() {
 
 #[test]
 fn line_at_310_nm_uvi_and_t_max() {
-    // reference-values §10 oracle (computed from the definitions): a 310 nm line of
-    // 1 W/m² has E_er = 0.074 473 W/m² → UVI 2.9789 and E_eff = 0.015 W/m² → t_max 2000 s.
+    // Computed from the definitions (ISO17166 s_er, WHO2002 k_er = 40, ICNIRP2004 Table 1
+    // S(310) = 0.015, IEC62471 §4.3.1 t_max = 30/E_eff): a 310 nm line of 1 W/m² has
+    // E_er = 0.074 473 W/m² → UVI 2.9789 and E_eff = 0.015 W/m² → t_max 2000 s.
     let rule = IntegrationRule::default();
     let set = FactorSet::new(
         &Source::Line(nm(310.0)),
@@ -237,8 +241,8 @@ fn line_at_310_nm_uvi_and_t_max() {
 #[test]
 fn t_max_worked_examples() {
     let rule = IntegrationRule::default();
-    // reference-values §3c worked examples (computed from t_max = 30/E_eff, IEC 62471
-    // §4.3.1 Eq. 4.2, with ICNIRP 2004 S(λ)):
+    // Worked examples computed from t_max = 30/E_eff (IEC62471 §4.3.1 Eq. 4.2) with
+    // ICNIRP2004 Table 1 S(λ):
     // 254 nm lamp at 0.01 W/m² → E_eff 0.005 W/m², t_max 6000 s.
     let f = WeightedFactor::new(
         &Source::Line(nm(254.0)),
@@ -290,8 +294,8 @@ fn t_max_worked_examples() {
 
 #[test]
 fn uva_eye_rules_are_kept_apart() {
-    // IEC 62471:2006 §4.3.2 (as implemented in isetcam humanUVSafety.m): 10⁴ J/m² up to
-    // 1000 s, then 10 W/m². At exactly 10 W/m² the source sits on the boundary (§3c).
+    // IEC62471 §4.3.2: 10⁴ J/m² up to 1000 s, then 10 W/m². At exactly 10 W/m² the
+    // source sits on the boundary (10 W/m² × 1000 s = 10⁴ J/m², computed).
     assert_eq!(
         uva_eye_max_time(Irradiance::from_w_per_m2(10.0), UvaEyeRule::Iec62471),
         TimeLimit::Unlimited
@@ -316,7 +320,7 @@ fn uva_eye_rules_are_kept_apart() {
 }
 
 /// A Gaussian in *wavelength*, tabulated every 0.05 nm over ±30 nm (the shape of the
-/// reference-values §3c computation).
+/// independent computation quoted in the test below).
 fn gaussian_in_wavelength(peak: f64, fwhm: f64) -> Spectrum<1201> {
     let sigma = fwhm / (2.0 * libm::sqrt(2.0 * core::f64::consts::LN_2));
     let mut pts = [(0.0, 0.0); 1201];
@@ -330,7 +334,8 @@ fn gaussian_in_wavelength(peak: f64, fwhm: f64) -> Spectrum<1201> {
 
 #[test]
 fn band_shape_gaussian_in_wavelength_matches_the_reference() {
-    // reference-values §3c (computed there: log-linear S(λ), 0.01 nm steps): for a Gaussian
+    // Computed outside this crate (ICNIRP2004 Table 1, log-linear S(λ), 0.01 nm steps; a
+    // computation, not a published value): for a Gaussian
     // LED of 10 nm FWHM the spectrally averaged S is 2.08× S(centre) at 310 nm, 1.01× at
     // 365 nm, 0.93× at 395 nm, and 3.9e-6 at 405 nm (S(405) itself is 0). Compared at the
     // printed digits.
@@ -362,7 +367,8 @@ fn band_shape_gaussian_in_wavelength_matches_the_reference() {
 #[test]
 fn uvb_led_as_a_single_wavelength_understates_its_hazard() {
     // Computed by this crate (no published value exists for this exact model): the crate's
-    // LED model, a Gaussian in photon energy of 10 nm FWHM, against the same LED treated
+    // LED model, a Gaussian in photon energy with its wavelength maximum at the peak and a
+    // 10 nm FWHM per nm, against the same LED treated
     // as a line at its peak. On the steep UV-B slope of S(λ) (305–320 nm) the peak-only
     // shortcut understates E_eff by about 2×; near the shoulder (295–300 nm) it overstates
     // slightly; at 365 nm it is within 1 %. The pinned values are this computation's
@@ -385,13 +391,13 @@ fn uvb_led_as_a_single_wavelength_understates_its_hazard() {
         band_avg / peak_only
     };
     for (p, pinned) in [
-        (295.0, 0.9081),
-        (300.0, 0.9717),
-        (305.0, 1.8921),
-        (310.0, 2.0098),
-        (315.0, 2.3425),
-        (320.0, 1.7785),
-        (365.0, 1.0100),
+        (295.0, 0.9001),
+        (300.0, 0.9550),
+        (305.0, 1.8410),
+        (310.0, 1.9447),
+        (315.0, 2.2674),
+        (320.0, 1.7304),
+        (365.0, 1.0065),
     ] {
         let r = ratio(p);
         assert!((r - pinned).abs() <= 0.001, "{p}: {r}");
@@ -400,7 +406,8 @@ fn uvb_led_as_a_single_wavelength_understates_its_hazard() {
         assert!(ratio(p) > 1.8, "{p}");
     }
     // The issue's "about 2.1×" at 310 nm is for a Gaussian in wavelength (2.08, tested
-    // above); the energy-Gaussian model gives 2.01×.
+    // above); the energy-Gaussian model gives 1.94× (2.01× before the LED peak became the
+    // wavelength maximum, issue 18).
 }
 
 #[test]
@@ -431,7 +438,8 @@ fn user_table_equal_to_the_standard_gives_the_same_factor() {
 
 #[test]
 fn erythema_lower_limit_is_configuration() {
-    // reference-values D12: WHO integrates from 250 nm, NOAA Brewer practice from 286.5 nm.
+    // WHO2002 integrates from 250 nm; 286.5 nm is the lower limit of the NOAA Brewer
+    // network's practice (common practice, no source).
     // For a 280 nm line the two differ completely (computed).
     let rule = IntegrationRule::default();
     let l = Source::Line(nm(280.0));
@@ -445,8 +453,9 @@ fn erythema_lower_limit_is_configuration() {
 
 #[test]
 fn band_edges_default_and_configured() {
-    // CIE / ISO 21348 / Directive 2006/25/EC Art. 2: UV-C 100–280, UV-B 280–315,
-    // UV-A 315–400 nm; half-open by this crate's convention (reference-values §4).
+    // EU2006 Article 2 / ISO21348: UV-C 100–280, UV-B 280–315, UV-A 315–400 nm;
+    // half-open by this crate's convention (the sources do not say which side owns an
+    // edge).
     let e = UvBandEdges::default();
     assert_eq!(e, UvBandEdges::CIE);
     assert_eq!(e.classify(nm(100.0)), Some(UvBand::UvC));
@@ -456,7 +465,7 @@ fn band_edges_default_and_configured() {
     assert_eq!(e.classify(nm(399.999)), Some(UvBand::UvA));
     assert_eq!(e.classify(nm(400.0)), None);
     assert_eq!(e.range(UvBand::UvB), range(280.0, 315.0));
-    // Curing-trade / older photobiology edge at 320 nm (reference-values D3).
+    // Curing-trade / older photobiology edge at 320 nm (common practice, no source).
     let trade = UvBandEdges::new(nm(200.0), nm(280.0), nm(320.0), nm(400.0)).unwrap();
     assert_eq!(trade.classify(nm(317.0)), Some(UvBand::UvB));
     assert_eq!(
