@@ -9,6 +9,7 @@ use hosttests::lamp_curing::{
     demo_meter, run_part, Actuator, LedArray, Photodiode, RunOptions, SimPins, Station, DEMO_DARK,
 };
 use photon_ledger::control::curing::{CuringError, Refusal, SampleUse, TimerOutcome};
+use photon_ledger::control::PinError;
 use photon_ledger::prelude::*;
 
 /// 1 W/m² (0.1 mW/cm²) per code, 1000 ticks per second: 16-bit unipolar ADC with a 65.536 V
@@ -342,7 +343,7 @@ fn injected_enable_pin_error_at_the_stop_faults_and_retries() {
         c.on_reading(&reading(10 * k, 5000)).unwrap();
     }
     let r = c.on_reading(&reading(2010, 5000));
-    assert_eq!(r, Err(CuringError::Output(err)));
+    assert_eq!(r, Err(CuringError::Output(PinError::Enable(err))));
     assert_eq!(c.phase(), CuringPhase::Faulted(CuringFault::Output));
     assert!(c.alarm_latched());
     drop(c);

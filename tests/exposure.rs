@@ -7,8 +7,8 @@ use embedded_hal_mock::eh1::digital::{Mock as PinMock, State, Transaction as Pin
 use hosttests::sim::SimPin;
 use photon_ledger::control::exposure::display::{dose_line, solar_line};
 use photon_ledger::control::exposure::{
-    ExposureConfig, ExposureConfigError, ExposureMonitor, ReadingIssue, RollingWindow,
-    SolarMonitor, WeightFactor,
+    ExposureConfig, ExposureConfigError, ExposureError, ExposureMonitor, ReadingIssue,
+    RollingWindow, SolarMonitor, WeightFactor,
 };
 use photon_ledger::prelude::*;
 use photon_ledger::spectral::weighting::{
@@ -294,7 +294,7 @@ fn configuration_errors_are_named() {
             c,
             [SimPin::new(), SimPin::new(), SimPin::new()],
         ) {
-            Err(Ok(e)) => e,
+            Err(ExposureError::Config(e)) => e,
             other => panic!(
                 "expected a configuration error, got {:?}",
                 other.map(|_| ())

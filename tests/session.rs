@@ -5,7 +5,7 @@ mod common;
 use common::{config, meter, reading};
 use embedded_hal_mock::eh1::digital::{Mock as PinMock, State, Transaction as Pin};
 use embedded_hal_mock::eh1::MockError;
-use photon_ledger::control::session::{Ignored, SessionConfigError};
+use photon_ledger::control::session::{Ignored, SessionConfigError, SessionError};
 use photon_ledger::prelude::*;
 
 fn io_error() -> MockError {
@@ -265,7 +265,10 @@ fn configuration_errors_are_named_and_touch_no_pin() {
         let mut en = PinMock::new(&[]);
         let mut al = PinMock::new(&[]);
         let r = Session::new(meter(), c, en.clone(), al.clone());
-        assert!(matches!(r, Err(Ok(e)) if e == expected), "{expected:?}");
+        assert!(
+            matches!(r, Err(SessionError::Config(e)) if e == expected),
+            "{expected:?}"
+        );
         en.done();
         al.done();
     }
@@ -284,7 +287,10 @@ fn configuration_errors_are_named_and_touch_no_pin() {
     let mut en = PinMock::new(&[]);
     let mut al = PinMock::new(&[]);
     let r = Session::new(no_area, c, en.clone(), al.clone());
-    assert!(matches!(r, Err(Ok(SessionConfigError::SampleAreaRequired))));
+    assert!(matches!(
+        r,
+        Err(SessionError::Config(SessionConfigError::SampleAreaRequired))
+    ));
     en.done();
     al.done();
 }
@@ -353,4 +359,25 @@ fn one_sample_serves_every_stage_and_the_dark_offset_lives_in_the_meter() {
     // 500 codes (1 mW/m² each) = 0.5 W/m² for 0.49 s, net of the 20-code dark offset.
     assert!((a.progress().exposure.j_per_m2() - 0.245).abs() < 1e-12);
     assert_eq!(a.progress(), b.progress());
+}
+
+#[test]
+fn enable_and_alarm_pins_may_have_different_error_types() {
+    // A GPIO whose writes cannot fail beside an alarm on a port expander whose can: the
+    // session takes both, and names the failing one.
+    use hosttests::sim::SimPin;
+    use photon_ledger::control::PinError;
+    let enable = SimPin::new();
+    let alarm = PinMock::new(&[
+        Pin::set(State::Low),
+        Pin::set(State::High).with_error(io_error()),
+    ]);
+    let mut s = Session::new(meter(), config(1.0, 0.1), enable.clone(), alarm.clone()).unwrap();
+    s.start().unwrap();
+    assert!(enable.is_high());
+    let r = s.fault(Fault::Aborted);
+    assert_eq!(r, Err(PinError::Alarm(io_error())));
+    assert!(!enable.is_high(), "the enable output went inactive first");
+    let (_, mut alarm) = s.release();
+    alarm.done();
 }

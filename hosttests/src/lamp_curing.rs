@@ -20,6 +20,7 @@ use std::rc::Rc;
 
 use embedded_hal::digital::{ErrorType, InputPin, OutputPin};
 use photon_ledger::control::curing::{CuringConfigError, CuringError};
+use photon_ledger::control::PinError;
 use photon_ledger::prelude::*;
 
 /// An LED array seen from the part: irradiance vs thermal state and age.
@@ -463,7 +464,8 @@ impl SimPins {
         )
         .map_err(|e| match e {
             CuringError::Config(c) => c,
-            CuringError::Output(never) | CuringError::Interlock(never) => match never {},
+            CuringError::Output(PinError::Enable(never) | PinError::Alarm(never))
+            | CuringError::Interlock(never) => match never {},
             // `new` refuses nothing; keep the mapping total.
             CuringError::Refused(_) => CuringConfigError::Target,
         })

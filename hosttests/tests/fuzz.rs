@@ -19,11 +19,12 @@ use hosttests::fixtures::round_meter;
 use hosttests::flash::SimFlash;
 use hosttests::review::config::{self as review_config, ReviewConfig};
 use hosttests::review::samples::SampleReader;
-use photon_ledger::acquire::autorange::AutorangeError;
+use photon_ledger::acquire::autorange::{AutorangeConfigError, AutorangeError};
 use photon_ledger::control::plausibility::{
     Plausibility, PlausibilityConfig, PlausibilityConfigError,
 };
 use photon_ledger::control::session::SessionConfigError;
+use photon_ledger::control::session::SessionError;
 use photon_ledger::frontend::FrontEndError;
 use photon_ledger::irradiance::calibration::{
     self, accept, check, AcceptError, CalibrationRecord, CalibrationSource, Check, Day,
@@ -697,7 +698,7 @@ fn fuzz_session_builder() {
                         let _ = s.on_reading(&r);
                     }
                 }
-                Err(Ok(e)) => {
+                Err(SessionError::Config(e)) => {
                     if !(target.is_finite() && target > 0.0) {
                         prop_assert_eq!(e, SessionConfigError::Target);
                     } else if gap == 0 && tol.is_finite() && tol >= 0.0 {
@@ -705,7 +706,9 @@ fn fuzz_session_builder() {
                     }
                     prop_assert!(!e.to_string().is_empty());
                 }
-                Err(Err(e)) => return Err(TestCaseError::fail(format!("pin error {e:?}"))),
+                Err(SessionError::Pin(e)) => {
+                    return Err(TestCaseError::fail(format!("pin error {e:?}")))
+                }
             }
             Ok(())
         },
@@ -747,14 +750,16 @@ fn fuzz_autorange_and_plausibility_builders() {
                         let _ = a.observe(&r, &fe);
                     }
                 }
-                Err(Ok(e)) => {
+                Err(AutorangeError::Config(e)) => {
                     if !(up.is_finite() && down.is_finite() && 0.0 < down && down < up && up <= 1.0)
                     {
-                        prop_assert_eq!(e, AutorangeError::Thresholds);
+                        prop_assert_eq!(e, AutorangeConfigError::Thresholds);
                     }
                     prop_assert!(!e.to_string().is_empty());
                 }
-                Err(Err(e)) => return Err(TestCaseError::fail(format!("pin error {e:?}"))),
+                Err(AutorangeError::Pin(e)) => {
+                    return Err(TestCaseError::fail(format!("pin error {e:?}")))
+                }
             }
             let pc = PlausibilityConfig {
                 stuck_samples: p1.0,

@@ -37,14 +37,14 @@ pub struct AutorangeConfig {
 /// Why an autorange configuration was rejected.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub enum AutorangeError {
+pub enum AutorangeConfigError {
     /// Thresholds not finite, or not 0 < down < up ≤ 1.
     Thresholds,
     /// `K` pins cannot address every range of the front end.
     TooFewPins,
 }
 
-impl core::fmt::Display for AutorangeError {
+impl core::fmt::Display for AutorangeConfigError {
     fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
         f.write_str(match self {
             Self::Thresholds => "autorange thresholds must satisfy 0 < down < up <= 1",
@@ -53,7 +53,28 @@ impl core::fmt::Display for AutorangeError {
     }
 }
 
-impl core::error::Error for AutorangeError {}
+impl core::error::Error for AutorangeConfigError {}
+
+/// Why [`Autorange::new`] failed. `E` is the select pins' error type.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum AutorangeError<E> {
+    /// The configuration was rejected; no pin was written.
+    Config(AutorangeConfigError),
+    /// The switch could not be set to the start range.
+    Pin(E),
+}
+
+impl<E: core::fmt::Debug> core::fmt::Display for AutorangeError<E> {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        match self {
+            Self::Config(e) => write!(f, "autorange configuration: {e}"),
+            Self::Pin(e) => write!(f, "range select pin could not be written: {e:?}"),
+        }
+    }
+}
+
+impl<E: core::fmt::Debug> core::error::Error for AutorangeError<E> {}
 
 /// What to do with a reading.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -90,7 +111,7 @@ impl<P: OutputPin, const K: usize> Autorange<P, K> {
     /// Configure for `front_end` and select range `start` (clamped to the last range).
     ///
     /// # Errors
-    /// `Err(Ok(_))` for an invalid configuration, `Err(Err(pin error))` if the pins cannot
+    /// [`AutorangeError::Config`] for an invalid configuration, [`AutorangeError::Pin`] if the pins cannot
     /// be driven.
     #[allow(clippy::type_complexity)] // nested Result keeps configuration and pin errors apart
     pub fn new(
@@ -98,14 +119,14 @@ impl<P: OutputPin, const K: usize> Autorange<P, K> {
         front_end: &FrontEnd,
         config: AutorangeConfig,
         start: RangeIndex,
-    ) -> Result<Self, Result<AutorangeError, P::Error>> {
+    ) -> Result<Self, AutorangeError<P::Error>> {
         let AutorangeConfig { up, down, .. } = config;
         if !(up.is_finite() && down.is_finite() && 0.0 < down && down < up && up <= 1.0) {
-            return Err(Ok(AutorangeError::Thresholds));
+            return Err(AutorangeError::Config(AutorangeConfigError::Thresholds));
         }
         let n = front_end.range_count();
         if K < 8 && (1usize << K) < n {
-            return Err(Ok(AutorangeError::TooFewPins));
+            return Err(AutorangeError::Config(AutorangeConfigError::TooFewPins));
         }
         let top = f64::from(front_end.high_limit());
         let mut down_code = [0i32; MAX_RANGES];
@@ -132,7 +153,7 @@ impl<P: OutputPin, const K: usize> Autorange<P, K> {
             up_code: libm::floor(up * top) as i32,
             down_code,
         };
-        a.drive(current).map_err(Err)?;
+        a.drive(current).map_err(AutorangeError::Pin)?;
         Ok(a)
     }
 

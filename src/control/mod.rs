@@ -62,15 +62,27 @@ pub fn drive<P: OutputPin>(pin: &mut P, level: ActiveLevel, active: bool) -> Res
     }
 }
 
-/// Which output failed while entering the safe state.
+/// An output pin that could not be written, named by its role. The two pins may have
+/// different error types (a GPIO enable beside an alarm on an I²C port expander).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub enum SafeStateError<EN, AL> {
-    /// The enable output could not be driven inactive (it was retried once).
+pub enum PinError<EN, AL> {
+    /// The source-enable output (it was retried towards inactive once).
     Enable(EN),
-    /// The alarm output could not be driven active.
+    /// The alarm output.
     Alarm(AL),
 }
+
+impl<EN: core::fmt::Debug, AL: core::fmt::Debug> core::fmt::Display for PinError<EN, AL> {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        match self {
+            Self::Enable(e) => write!(f, "enable output could not be written: {e:?}"),
+            Self::Alarm(e) => write!(f, "alarm output could not be written: {e:?}"),
+        }
+    }
+}
+
+impl<EN: core::fmt::Debug, AL: core::fmt::Debug> core::error::Error for PinError<EN, AL> {}
 
 /// Enter the safe state: enable inactive first, then alarm active; see the
 /// [module documentation](self) for the order and the retry.
@@ -82,15 +94,15 @@ pub fn safe_state<EN: OutputPin, AL: OutputPin>(
     enable_level: ActiveLevel,
     alarm: &mut AL,
     alarm_level: ActiveLevel,
-) -> Result<(), SafeStateError<EN::Error, AL::Error>> {
+) -> Result<(), PinError<EN::Error, AL::Error>> {
     let en = drive(enable, enable_level, false);
     let al = drive(alarm, alarm_level, true);
     if en.is_err() || al.is_err() {
         // Best effort: a transient error on an expander may clear on a second write.
         let _ = drive(enable, enable_level, false);
     }
-    en.map_err(SafeStateError::Enable)?;
-    al.map_err(SafeStateError::Alarm)
+    en.map_err(PinError::Enable)?;
+    al.map_err(PinError::Alarm)
 }
 
 #[cfg(test)]
@@ -173,7 +185,7 @@ mod tests {
             writes: &w2,
         };
         let r = safe_state(&mut e, ActiveLevel::High, &mut a, ActiveLevel::High);
-        assert_eq!(r, Err(SafeStateError::Enable(ErrorKind::Other)));
+        assert_eq!(r, Err(PinError::Enable(ErrorKind::Other)));
         // The retry succeeded: the enable is inactive, and the alarm was still raised.
         assert!(!eh.get());
         assert!(ah.get());

@@ -25,7 +25,9 @@
 //!
 //! The session is **not** a safety device; see SAFETY.md.
 
-use embedded_hal::digital::OutputPin;
+use embedded_hal::digital::{ErrorType, OutputPin};
+
+use crate::control::drive;
 
 use crate::acquire::reading::{RangeIndex, Reading, Ticks};
 use crate::dose::{Integrator, Rounding, SampleError, ThresholdId};
@@ -181,19 +183,38 @@ pub enum Ignored {
     NotRunning,
 }
 
-/// Error of a session operation: an output pin could not be written. The session is then in
-/// `Faulted(Fault::Output)` and the enable output was driven inactive as far as possible.
+pub use crate::control::PinError;
+
+/// Why [`Session::new`] failed: the configuration, or an output that could not be set
+/// inactive. `EE` and `AE` are the enable and alarm pins' error types.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct PinError<E>(pub E);
+pub enum SessionError<EE, AE> {
+    /// The configuration was rejected; no pin was written.
+    Config(SessionConfigError),
+    /// An output could not be set inactive.
+    Pin(PinError<EE, AE>),
+}
 
-impl<E: core::fmt::Debug> core::fmt::Display for PinError<E> {
-    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
-        write!(f, "output pin error: {:?}", self.0)
+impl<EE, AE> From<SessionConfigError> for SessionError<EE, AE> {
+    fn from(e: SessionConfigError) -> Self {
+        Self::Config(e)
     }
 }
 
-impl<E: core::fmt::Debug> core::error::Error for PinError<E> {}
+impl<EE: core::fmt::Debug, AE: core::fmt::Debug> core::fmt::Display for SessionError<EE, AE> {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        match self {
+            Self::Config(e) => write!(f, "session configuration: {e}"),
+            Self::Pin(e) => write!(f, "session outputs: {e}"),
+        }
+    }
+}
+
+impl<EE: core::fmt::Debug, AE: core::fmt::Debug> core::error::Error for SessionError<EE, AE> {}
+
+/// The pin error of a session with enable pin `EN` and alarm pin `AL`.
+pub type SessionPinError<EN, AL> = PinError<<EN as ErrorType>::Error, <AL as ErrorType>::Error>;
 
 /// Dose read-out: every unit, the remaining dose and the time to target.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -238,41 +259,36 @@ pub struct Session<EN, AL> {
     alarm: AL,
 }
 
-impl<EN, AL, E> Session<EN, AL>
-where
-    EN: OutputPin<Error = E>,
-    AL: OutputPin<Error = E>,
-{
+impl<EN: OutputPin, AL: OutputPin> Session<EN, AL> {
     /// Validate the configuration and set both outputs inactive.
     ///
     /// # Errors
-    /// `Err(Ok(config_error))` for invalid configuration; `Err(Err(pin_error))` when the
-    /// outputs could not be set inactive.
-    #[allow(clippy::type_complexity)] // the nested Result keeps the two failure kinds apart
+    /// [`SessionError::Config`] for an invalid configuration (no pin written);
+    /// [`SessionError::Pin`] when the outputs could not be set inactive.
     pub fn new(
         meter: Meter,
         config: SessionConfig,
         enable: EN,
         alarm: AL,
-    ) -> Result<Self, Result<SessionConfigError, PinError<E>>> {
-        let target = to_exposure(&meter, config.target).map_err(Ok)?;
+    ) -> Result<Self, SessionError<EN::Error, AL::Error>> {
+        let target = to_exposure(&meter, config.target)?;
         if !(target.j_per_m2().is_finite() && target.j_per_m2() > 0.0) {
-            return Err(Ok(SessionConfigError::Target));
+            return Err(SessionConfigError::Target.into());
         }
-        let tolerance = to_exposure(&meter, config.tolerance).map_err(Ok)?;
+        let tolerance = to_exposure(&meter, config.tolerance)?;
         if !(tolerance.j_per_m2().is_finite() && tolerance.j_per_m2() >= 0.0) {
-            return Err(Ok(SessionConfigError::Tolerance));
+            return Err(SessionConfigError::Tolerance.into());
         }
         if config.max_gap_ticks == 0 || config.max_gap_ticks > i32::MAX as u32 {
-            return Err(Ok(SessionConfigError::MaxGap));
+            return Err(SessionConfigError::MaxGap.into());
         }
         let mut integrator = Integrator::new(&meter, config.max_gap_ticks);
         let target_id = integrator
             .add_threshold(target, Rounding::NotBefore)
-            .map_err(|_| Ok(SessionConfigError::Target))?;
+            .map_err(|_| SessionConfigError::Target)?;
         let over_id = integrator
             .add_threshold(target + tolerance, Rounding::NotAfter)
-            .map_err(|_| Ok(SessionConfigError::Tolerance))?;
+            .map_err(|_| SessionConfigError::Tolerance)?;
         let mut s = Self {
             meter,
             integrator,
@@ -285,8 +301,8 @@ where
             enable,
             alarm,
         };
-        s.write_enable(false).map_err(Err)?;
-        s.write_alarm(false).map_err(Err)?;
+        s.write_enable(false).map_err(SessionError::Pin)?;
+        s.write_alarm(false).map_err(SessionError::Pin)?;
         Ok(s)
     }
 
@@ -296,7 +312,7 @@ where
     ///
     /// # Errors
     /// [`PinError`] if the enable output cannot be written (the session is then faulted).
-    pub fn start(&mut self) -> Result<Phase, PinError<E>> {
+    pub fn start(&mut self) -> Result<Phase, SessionPinError<EN, AL>> {
         if self.phase == Phase::Ready {
             self.phase = Phase::Exposing;
             self.write_enable(true)?;
@@ -308,7 +324,7 @@ where
     ///
     /// # Errors
     /// [`PinError`] if an output cannot be written (the session is then faulted).
-    pub fn on_reading(&mut self, reading: &Reading) -> Result<Outcome, PinError<E>> {
+    pub fn on_reading(&mut self, reading: &Reading) -> Result<Outcome, SessionPinError<EN, AL>> {
         let net = self.meter.front_end().net_code(reading);
         self.step(reading, net)
     }
@@ -319,7 +335,7 @@ where
     ///
     /// # Errors
     /// [`PinError`] if an output cannot be written (the session is then faulted).
-    pub fn on_sample(&mut self, sample: &Sample) -> Result<Outcome, PinError<E>> {
+    pub fn on_sample(&mut self, sample: &Sample) -> Result<Outcome, SessionPinError<EN, AL>> {
         self.step(&sample.reading, sample.net)
     }
 
@@ -330,7 +346,7 @@ where
         &mut self,
         reading: &Reading,
         net: Result<i32, CodeFault>,
-    ) -> Result<Outcome, PinError<E>> {
+    ) -> Result<Outcome, SessionPinError<EN, AL>> {
         let before = self.phase;
         if matches!(before, Phase::Ready) || before.is_terminal() {
             return Ok(Outcome::Ignored(Ignored::NotRunning));
@@ -384,7 +400,7 @@ where
     ///
     /// # Errors
     /// [`PinError`] if an output cannot be written.
-    pub fn fault(&mut self, reason: Fault) -> Result<(), PinError<E>> {
+    pub fn fault(&mut self, reason: Fault) -> Result<(), SessionPinError<EN, AL>> {
         if self.phase.is_terminal() {
             return Ok(());
         }
@@ -478,7 +494,7 @@ where
         (self.enable, self.alarm)
     }
 
-    fn enter_fault(&mut self, reason: Fault) -> Result<(), PinError<E>> {
+    fn enter_fault(&mut self, reason: Fault) -> Result<(), SessionPinError<EN, AL>> {
         self.phase = Phase::Faulted(reason);
         // The shared safe-state sequence: enable inactive first, alarm even if that failed.
         let r = crate::control::safe_state(
@@ -487,10 +503,10 @@ where
             &mut self.alarm,
             self.config.alarm_level,
         );
-        r.map_err(|e| match e {
-            crate::control::SafeStateError::Enable(e)
-            | crate::control::SafeStateError::Alarm(e) => PinError(e),
-        })
+        if r.is_err() {
+            self.mark_output_fault();
+        }
+        r
     }
 
     /// An output failed: fault, keeping an earlier fault reason if there is one.
@@ -500,32 +516,24 @@ where
         }
     }
 
-    fn write_enable(&mut self, active: bool) -> Result<(), PinError<E>> {
-        let r = set(&mut self.enable, self.config.enable_level, active);
+    fn write_enable(&mut self, active: bool) -> Result<(), SessionPinError<EN, AL>> {
+        let r = drive(&mut self.enable, self.config.enable_level, active);
         if r.is_err() {
             self.mark_output_fault();
             // Best effort: try inactive once more (a transient bus error on an expander).
-            let _ = set(&mut self.enable, self.config.enable_level, false);
+            let _ = drive(&mut self.enable, self.config.enable_level, false);
         }
-        r
+        r.map_err(PinError::Enable)
     }
 
-    fn write_alarm(&mut self, active: bool) -> Result<(), PinError<E>> {
-        let r = set(&mut self.alarm, self.config.alarm_level, active);
+    fn write_alarm(&mut self, active: bool) -> Result<(), SessionPinError<EN, AL>> {
+        let r = drive(&mut self.alarm, self.config.alarm_level, active);
         if r.is_err() {
             self.mark_output_fault();
-            let _ = set(&mut self.enable, self.config.enable_level, false);
+            let _ = drive(&mut self.enable, self.config.enable_level, false);
         }
-        r
+        r.map_err(PinError::Alarm)
     }
-}
-
-fn set<P: OutputPin>(
-    pin: &mut P,
-    level: ActiveLevel,
-    active: bool,
-) -> Result<(), PinError<P::Error>> {
-    crate::control::drive(pin, level, active).map_err(PinError)
 }
 
 /// Convert a dose in any unit to radiant exposure for this meter.

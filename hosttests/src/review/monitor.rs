@@ -3,6 +3,7 @@
 
 use std::convert::Infallible;
 
+use photon_ledger::control::exposure::ExposureError;
 use photon_ledger::control::exposure::{
     Changes, ExposureConfig, ExposureConfigError, ExposureMonitor, ShiftTotals, SolarMonitor,
 };
@@ -60,8 +61,8 @@ fn build<const L: usize>(meter: &Meter, s: &ExposureSetup) -> Result<M<L>, Expos
     };
     match ExposureMonitor::new(meter.clone(), s.weight, config, [Unwired; L]) {
         Ok(m) => Ok(m),
-        Err(Ok(e)) => Err(e),
-        Err(Err(never)) => match never {},
+        Err(ExposureError::Config(e)) => Err(e),
+        Err(ExposureError::Pin(never)) => match never {},
     }
 }
 

@@ -11,6 +11,7 @@ use std::time::{Duration, Instant};
 
 use photon_ledger::control::exposure::SolarMonitor;
 use photon_ledger::control::session::{Ignored, SessionConfigError};
+use photon_ledger::control::session::{PinError, SessionError};
 use photon_ledger::prelude::*;
 use sha2::{Digest, Sha256};
 
@@ -38,12 +39,12 @@ pub fn new_session(
 ) -> Result<ReplaySession, SessionConfigError> {
     let mut s = match Session::new(meter, config, Unwired, Unwired) {
         Ok(s) => s,
-        Err(Ok(e)) => return Err(e),
-        Err(Err(never)) => match never.0 {},
+        Err(SessionError::Config(e)) => return Err(e),
+        Err(SessionError::Pin(PinError::Enable(never) | PinError::Alarm(never))) => match never {},
     };
     match s.start() {
         Ok(_) => Ok(s),
-        Err(never) => match never.0 {},
+        Err(PinError::Enable(never) | PinError::Alarm(never)) => match never {},
     }
 }
 
@@ -281,7 +282,7 @@ impl Replayer {
         }
         let outcome = match self.session.on_reading(&s.reading) {
             Ok(o) => o,
-            Err(never) => match never.0 {},
+            Err(PinError::Enable(never) | PinError::Alarm(never)) => match never {},
         };
         match outcome {
             Outcome::Integrated { before, after } => {

@@ -13,6 +13,8 @@ use super::*;
 
 use super::config::{set, validate};
 use super::part::{LampHistory, OffCheck, PartState};
+use super::ControllerError;
+use crate::control::PinError;
 
 /// A dose-controlled curing station. See the [module documentation](super).
 #[derive(Debug)]
@@ -41,12 +43,7 @@ pub struct CuringController<EN, AL, IL> {
     interlock: IL,
 }
 
-impl<EN, AL, IL, EO, EI> CuringController<EN, AL, IL>
-where
-    EN: OutputPin<Error = EO>,
-    AL: OutputPin<Error = EO>,
-    IL: InputPin<Error = EI>,
-{
+impl<EN: OutputPin, AL: OutputPin, IL: InputPin> CuringController<EN, AL, IL> {
     /// Validate the configuration, convert every limit into integer units, and set both
     /// outputs inactive.
     ///
@@ -59,7 +56,7 @@ where
         enable: EN,
         alarm: AL,
         interlock: IL,
-    ) -> Result<Self, CuringError<EO, EI>> {
+    ) -> Result<Self, ControllerError<EN, AL, IL>> {
         let checked = validate(&meter, &config).map_err(CuringError::Config)?;
         let mut template = Integrator::new(&meter, config.max_gap_ticks);
         let target_id = template
@@ -125,7 +122,11 @@ where
     /// changed); [`CuringError::Interlock`] if the interlock cannot be read (no part is
     /// started); [`CuringError::Output`] if the enable output cannot be written (the part is
     /// then faulted).
-    pub fn start(&mut self, part: PartId, now: Ticks) -> Result<Events, CuringError<EO, EI>> {
+    pub fn start(
+        &mut self,
+        part: PartId,
+        now: Ticks,
+    ) -> Result<Events, ControllerError<EN, AL, IL>> {
         self.start_part(part, now, true)
     }
 
@@ -135,7 +136,11 @@ where
     ///
     /// # Errors
     /// As [`start`](Self::start).
-    pub fn start_lit(&mut self, part: PartId, now: Ticks) -> Result<Events, CuringError<EO, EI>> {
+    pub fn start_lit(
+        &mut self,
+        part: PartId,
+        now: Ticks,
+    ) -> Result<Events, ControllerError<EN, AL, IL>> {
         self.start_part(part, now, false)
     }
 
@@ -144,7 +149,7 @@ where
         part: PartId,
         now: Ticks,
         dark: bool,
-    ) -> Result<Events, CuringError<EO, EI>> {
+    ) -> Result<Events, ControllerError<EN, AL, IL>> {
         if self.part.is_some() {
             return Err(CuringError::Refused(Refusal::PartActive));
         }
@@ -176,7 +181,7 @@ where
     /// # Errors
     /// [`CuringError::Output`] or [`CuringError::Interlock`] when a pin fails; the controller
     /// is then faulted (the reading was still integrated if it was usable).
-    pub fn on_reading(&mut self, reading: &Reading) -> Result<Update, CuringError<EO, EI>> {
+    pub fn on_reading(&mut self, reading: &Reading) -> Result<Update, ControllerError<EN, AL, IL>> {
         let sample = self.meter.front_end().sample(reading);
         self.on_sample(&sample)
     }
@@ -187,7 +192,7 @@ where
     ///
     /// # Errors
     /// As [`on_reading`](Self::on_reading).
-    pub fn on_sample(&mut self, sample: &Sample) -> Result<Update, CuringError<EO, EI>> {
+    pub fn on_sample(&mut self, sample: &Sample) -> Result<Update, ControllerError<EN, AL, IL>> {
         let reading = &sample.reading;
         self.pending = Events::NONE;
         if self.part.is_none() {
@@ -222,7 +227,7 @@ where
     /// # Errors
     /// As [`on_reading`](Self::on_reading); [`CuringError::Refused`] with
     /// [`Refusal::NoPart`] when no part is active.
-    pub fn poll_interlock(&mut self, now: Ticks) -> Result<Events, CuringError<EO, EI>> {
+    pub fn poll_interlock(&mut self, now: Ticks) -> Result<Events, ControllerError<EN, AL, IL>> {
         self.pending = Events::NONE;
         if self.part.is_none() {
             return Err(CuringError::Refused(Refusal::NoPart));
@@ -243,7 +248,7 @@ where
     /// # Errors
     /// [`CuringError::Refused`] (no part, not paused, alarm latched, interlock open — nothing
     /// changed); pin errors as [`on_reading`](Self::on_reading).
-    pub fn resume(&mut self, now: Ticks) -> Result<Events, CuringError<EO, EI>> {
+    pub fn resume(&mut self, now: Ticks) -> Result<Events, ControllerError<EN, AL, IL>> {
         self.pending = Events::NONE;
         if self.part.is_none() {
             return Err(CuringError::Refused(Refusal::NoPart));
@@ -327,7 +332,10 @@ where
     ///
     /// # Errors
     /// [`CuringError::Output`] if the enable output cannot be written.
-    pub fn on_stop_timer(&mut self, now: Ticks) -> Result<TimerOutcome, CuringError<EO, EI>> {
+    pub fn on_stop_timer(
+        &mut self,
+        now: Ticks,
+    ) -> Result<TimerOutcome, ControllerError<EN, AL, IL>> {
         self.pending = Events::NONE;
         if self.phase != CuringPhase::Exposing {
             return Ok(TimerOutcome::NotExposing);
@@ -356,7 +364,7 @@ where
         &mut self,
         reason: CuringFault,
         now: Ticks,
-    ) -> Result<Events, CuringError<EO, EI>> {
+    ) -> Result<Events, ControllerError<EN, AL, IL>> {
         self.pending = Events::NONE;
         self.enter_fault(reason, now)?;
         Ok(self.take_pending())
@@ -371,7 +379,7 @@ where
     /// # Errors
     /// [`CuringError::Refused`] with [`Refusal::NoPart`]; [`CuringError::Output`] if the
     /// enable output cannot be written (the part stays active and faulted; call again).
-    pub fn finish(&mut self, now: Ticks) -> Result<PartRecord, CuringError<EO, EI>> {
+    pub fn finish(&mut self, now: Ticks) -> Result<PartRecord, ControllerError<EN, AL, IL>> {
         self.pending = Events::NONE;
         if self.part.is_none() {
             return Err(CuringError::Refused(Refusal::NoPart));
@@ -415,7 +423,7 @@ where
     ///
     /// # Errors
     /// [`CuringError::Refused`] with [`Refusal::PartActive`]; [`CuringError::Output`].
-    pub fn acknowledge_alarm(&mut self) -> Result<(), CuringError<EO, EI>> {
+    pub fn acknowledge_alarm(&mut self) -> Result<(), ControllerError<EN, AL, IL>> {
         if self.part.is_some() {
             return Err(CuringError::Refused(Refusal::PartActive));
         }
@@ -553,7 +561,7 @@ where
         &mut self,
         reading: &Reading,
         net: Result<i32, CodeFault>,
-    ) -> Result<(SampleUse, Option<i32>), CuringError<EO, EI>> {
+    ) -> Result<(SampleUse, Option<i32>), ControllerError<EN, AL, IL>> {
         let at = reading.at;
         let net = match net {
             Ok(n) => n,
@@ -604,7 +612,11 @@ where
         }
     }
 
-    fn handle_interlock(&mut self, closed: bool, at: Ticks) -> Result<(), CuringError<EO, EI>> {
+    fn handle_interlock(
+        &mut self,
+        closed: bool,
+        at: Ticks,
+    ) -> Result<(), ControllerError<EN, AL, IL>> {
         let Some(p) = self.part.as_mut() else {
             return Ok(());
         };
@@ -635,7 +647,7 @@ where
         net: i32,
         range: RangeIndex,
         at: Ticks,
-    ) -> Result<(), CuringError<EO, EI>> {
+    ) -> Result<(), ControllerError<EN, AL, IL>> {
         // The integrator's own step result: no rescan of the thresholds.
         let crossed = self.crossed;
         if crossed.contains(self.target_id) && !self.seen(Events::TARGET_REACHED) {
@@ -660,7 +672,7 @@ where
         net: i32,
         range: RangeIndex,
         at: Ticks,
-    ) -> Result<(), CuringError<EO, EI>> {
+    ) -> Result<(), ControllerError<EN, AL, IL>> {
         let r = usize::from(range.0);
         let warm_up = self.config.window.warm_up_ticks;
         let hold_low = self.config.window.minimum.map_or(0, |m| m.hold_off_ticks);
@@ -748,7 +760,7 @@ where
         net: i32,
         range: RangeIndex,
         at: Ticks,
-    ) -> Result<(), CuringError<EO, EI>> {
+    ) -> Result<(), ControllerError<EN, AL, IL>> {
         let deadline = self.off_deadline;
         let Some(p) = self.part.as_mut() else {
             return Ok(());
@@ -778,7 +790,11 @@ where
 
     // -- transitions ----------------------------------------------------------------------
 
-    fn issue_stop(&mut self, reason: StopReason, at: Ticks) -> Result<(), CuringError<EO, EI>> {
+    fn issue_stop(
+        &mut self,
+        reason: StopReason,
+        at: Ticks,
+    ) -> Result<(), ControllerError<EN, AL, IL>> {
         self.leave_exposing();
         let h = self.integrator.exposure().j_per_m2();
         if let Some(p) = self.part.as_mut() {
@@ -829,7 +845,11 @@ where
         }
     }
 
-    fn enter_fault(&mut self, reason: CuringFault, at: Ticks) -> Result<(), CuringError<EO, EI>> {
+    fn enter_fault(
+        &mut self,
+        reason: CuringFault,
+        at: Ticks,
+    ) -> Result<(), ControllerError<EN, AL, IL>> {
         let was = self.phase;
         let mut new_kind = false;
         if let Some(p) = self.part.as_mut() {
@@ -872,10 +892,7 @@ where
         if r.is_err() {
             self.mark_output_fault();
         }
-        r.map_err(|e| match e {
-            crate::control::SafeStateError::Enable(e)
-            | crate::control::SafeStateError::Alarm(e) => CuringError::Output(e),
-        })
+        r.map_err(CuringError::Output)
     }
 
     fn build_record(&self, p: &PartState, now: Ticks) -> PartRecord {
@@ -949,7 +966,7 @@ where
         core::mem::take(&mut self.pending)
     }
 
-    fn read_interlock(&mut self) -> Result<bool, EI> {
+    fn read_interlock(&mut self) -> Result<bool, IL::Error> {
         let high = self.interlock.is_high()?;
         Ok(high == matches!(self.config.interlock_closed_level, ActiveLevel::High))
     }
@@ -974,7 +991,7 @@ where
         self.alarm_latched = true;
     }
 
-    fn write_enable(&mut self, active: bool) -> Result<(), CuringError<EO, EI>> {
+    fn write_enable(&mut self, active: bool) -> Result<(), ControllerError<EN, AL, IL>> {
         let r = set(&mut self.enable, self.config.enable_level, active);
         if r.is_err() {
             self.mark_output_fault();
@@ -983,15 +1000,15 @@ where
             let _ = set(&mut self.enable, self.config.enable_level, false);
             let _ = set(&mut self.alarm, self.config.alarm_level, true);
         }
-        r.map_err(CuringError::Output)
+        r.map_err(|e| CuringError::Output(PinError::Enable(e)))
     }
 
-    fn write_alarm(&mut self, active: bool) -> Result<(), CuringError<EO, EI>> {
+    fn write_alarm(&mut self, active: bool) -> Result<(), ControllerError<EN, AL, IL>> {
         let r = set(&mut self.alarm, self.config.alarm_level, active);
         if r.is_err() {
             self.mark_output_fault();
             let _ = set(&mut self.enable, self.config.enable_level, false);
         }
-        r.map_err(CuringError::Output)
+        r.map_err(|e| CuringError::Output(PinError::Alarm(e)))
     }
 }

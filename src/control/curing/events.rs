@@ -259,7 +259,9 @@ pub enum Refusal {
     NotPaused,
 }
 
-/// Error of a controller operation.
+/// Error of a controller operation. `EO` is the output pins' error
+/// ([`PinError`](crate::control::PinError): which pin, with its own error type), `EI` the
+/// interlock input's.
 ///
 /// After `Output` or `Interlock` the controller is faulted, the enable output was driven
 /// inactive as far as possible and the alarm is latched.
@@ -268,7 +270,7 @@ pub enum Refusal {
 pub enum CuringError<EO, EI> {
     /// Invalid configuration (only from [`CuringController::new`]).
     Config(CuringConfigError),
-    /// An output pin could not be written.
+    /// An output pin could not be written (which one, and its error).
     Output(EO),
     /// The interlock input could not be read.
     Interlock(EI),

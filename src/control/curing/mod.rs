@@ -139,6 +139,16 @@ pub use events::{
 };
 pub use part::{LampTrend, PartId, PartRecord};
 
+/// The error of a [`CuringController`] with enable pin `EN`, alarm pin `AL` and interlock
+/// input `IL`, each with its own error type.
+pub type ControllerError<EN, AL, IL> = CuringError<
+    crate::control::PinError<
+        <EN as embedded_hal::digital::ErrorType>::Error,
+        <AL as embedded_hal::digital::ErrorType>::Error,
+    >,
+    <IL as embedded_hal::digital::ErrorType>::Error,
+>;
+
 /// Ticks from `from` to `to`, or 0 if `to` is before `from` (seen through the wrap).
 pub(super) fn elapsed(from: Ticks, to: Ticks) -> u32 {
     let d = to.wrapping_since(from);

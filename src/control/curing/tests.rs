@@ -662,7 +662,9 @@ fn output_error_faults() {
     r.enable.fail.set(true);
     assert_eq!(
         r.c.start(PartId(1), Ticks(0)),
-        Err(CuringError::Output(ErrorKind::Other))
+        Err(CuringError::Output(crate::control::PinError::Enable(
+            ErrorKind::Other
+        )))
     );
     assert_eq!(r.c.phase(), CuringPhase::Faulted(CuringFault::Output));
     assert!(r.c.alarm_latched());

@@ -56,7 +56,9 @@ mod solar;
 mod weighted;
 mod window;
 
-pub use monitor::{Changes, ExposureConfig, ExposureMonitor, ReadingIssue, ShiftTotals};
+pub use monitor::{
+    Changes, ExposureConfig, ExposureError, ExposureMonitor, ReadingIssue, ShiftTotals,
+};
 pub use plan::SamplingPlan;
 pub use solar::SolarMonitor;
 pub use weighted::{WeightedDose, LEVEL_SLACK};

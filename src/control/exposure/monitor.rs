@@ -14,6 +14,27 @@ use super::{
     MIN_PRECISION_BITS,
 };
 
+/// Why [`ExposureMonitor::new`] failed. `E` is the warning pins' error type.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum ExposureError<E> {
+    /// The configuration was rejected; no pin was written.
+    Config(ExposureConfigError),
+    /// A warning output could not be set inactive.
+    Pin(E),
+}
+
+impl<E: core::fmt::Debug> core::fmt::Display for ExposureError<E> {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        match self {
+            Self::Config(e) => write!(f, "exposure configuration: {e}"),
+            Self::Pin(e) => write!(f, "warning output could not be written: {e:?}"),
+        }
+    }
+}
+
+impl<E: core::fmt::Debug> core::error::Error for ExposureError<E> {}
+
 /// Exposure monitor configuration.
 #[derive(Debug, Clone, Copy, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -108,32 +129,33 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
     /// Validate the configuration and set every output inactive (low).
     ///
     /// # Errors
-    /// `Err(Ok(_))` for a configuration error, `Err(Err(_))` if a pin cannot be written.
-    #[allow(clippy::type_complexity)] // nested Result keeps configuration and pin errors apart
+    /// [`ExposureError::Config`] for a configuration error (no pin written),
+    /// [`ExposureError::Pin`] if a pin cannot be set inactive.
     pub fn new(
         meter: Meter,
         weight: WeightFactor,
         config: ExposureConfig<L>,
         pins: [P; L],
-    ) -> Result<Self, Result<ExposureConfigError, P::Error>> {
+    ) -> Result<Self, ExposureError<P::Error>> {
         let () = Self::LEVELS_OK;
         let limit = config.limit.j_per_m2();
         if !(limit.is_finite() && limit > 0.0) {
-            return Err(Ok(ExposureConfigError::Limit));
+            return Err(ExposureError::Config(ExposureConfigError::Limit));
         }
         let mut previous = 0.0;
         for &l in &config.levels {
             if !(l.is_finite() && l > previous) {
-                return Err(Ok(ExposureConfigError::WarningLevels));
+                return Err(ExposureError::Config(ExposureConfigError::WarningLevels));
             }
             previous = l;
         }
         let lowest = config.levels.first().copied().unwrap_or(0.0);
         let h = config.hysteresis;
         if !(h.is_finite() && h >= 0.0 && h < lowest) {
-            return Err(Ok(ExposureConfigError::Hysteresis));
+            return Err(ExposureError::Config(ExposureConfigError::Hysteresis));
         }
-        let window = RollingWindow::new(config.window_ticks, config.bucket_ticks).map_err(Ok)?;
+        let window = RollingWindow::new(config.window_ticks, config.bucket_ticks)
+            .map_err(ExposureError::Config)?;
         // The most precision (up to exact) at which both the limit and a full-scale window fit
         // the common unit; never below MIN_PRECISION_BITS.
         let fe = meter.front_end();
@@ -144,7 +166,8 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
         let span = config.window_ticks.saturating_add(config.bucket_ticks);
         let mut found = Err(ExposureConfigError::WindowRange);
         for bits in (MIN_PRECISION_BITS..=EXACT_BITS).rev() {
-            let scale = CommonScale::with_precision(&meter, weight, bits).map_err(Ok)?;
+            let scale =
+                CommonScale::with_precision(&meter, weight, bits).map_err(ExposureError::Config)?;
             if scale.bits < bits {
                 continue;
             }
@@ -157,9 +180,9 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
                 found = Err(ExposureConfigError::Limit);
             }
         }
-        let (scale, limit_units) = found.map_err(Ok)?;
-        let dose =
-            WeightedDose::with_scale(&meter, weight, config.max_gap_ticks, scale).map_err(Ok)?;
+        let (scale, limit_units) = found.map_err(ExposureError::Config)?;
+        let dose = WeightedDose::with_scale(&meter, weight, config.max_gap_ticks, scale)
+            .map_err(ExposureError::Config)?;
         let mut raise_units = [0u128; L];
         let mut clear_units = [0u128; L];
         for ((r, c), &l) in raise_units
@@ -170,10 +193,10 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
             // Warnings trip early: the level and its clear point are rounded down.
             *r = dose
                 .level_units(RadiantExposure::from_j_per_m2(l * limit))
-                .ok_or(Ok(ExposureConfigError::Limit))?;
+                .ok_or(ExposureError::Config(ExposureConfigError::Limit))?;
             *c = dose
                 .level_units(RadiantExposure::from_j_per_m2((l - h) * limit))
-                .ok_or(Ok(ExposureConfigError::Hysteresis))?;
+                .ok_or(ExposureError::Config(ExposureConfigError::Hysteresis))?;
         }
         let mut m = Self {
             meter,
@@ -191,7 +214,7 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
             pins,
         };
         for p in &mut m.pins {
-            p.set_low().map_err(Err)?;
+            p.set_low().map_err(ExposureError::Pin)?;
         }
         Ok(m)
     }

@@ -6,6 +6,7 @@
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
+use photon_ledger::acquire::autorange::AutorangeError;
 use photon_ledger::acquire::autorange::{Autorange, AutorangeConfig};
 use photon_ledger::prelude::*;
 
@@ -28,11 +29,11 @@ fn main() -> ! {
         RangeIndex(black_box(7)),
     ) {
         Ok(a) => a,
-        Err(Ok(e)) => {
+        Err(AutorangeError::Config(e)) => {
             show(&e);
             done()
         }
-        Err(Err(e)) => {
+        Err(AutorangeError::Pin(e)) => {
             black_box(e);
             done()
         }

@@ -8,6 +8,7 @@ use core::hint::black_box;
 use core::sync::atomic::{AtomicBool, Ordering};
 
 use cortex_m_rt::entry;
+use photon_ledger::control::PinError;
 use photon_ledger::control::curing::{CuringConfigError, CuringError};
 use photon_ledger::prelude::*;
 
@@ -43,7 +44,7 @@ impl embedded_hal::digital::InputPin for OpaqueInput {
 
 type Controller = CuringController<OpaquePin, OpaquePin, OpaqueInput>;
 
-fn show_error(e: &CuringError<PinFault, PinFault>) {
+fn show_error(e: &CuringError<PinError<PinFault, PinFault>, PinFault>) {
     show(e);
     if let CuringError::Config(c) = e {
         show(c);

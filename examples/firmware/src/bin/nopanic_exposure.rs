@@ -8,6 +8,7 @@
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
+use photon_ledger::control::exposure::ExposureError;
 use photon_ledger::control::exposure::display::{dose_line, solar_line};
 use photon_ledger::control::exposure::{
     ExposureConfig, ExposureMonitor, RollingWindow, SamplingPlan, SolarMonitor, WeightFactor,
@@ -121,11 +122,11 @@ fn monitor(m: &Meter, w: WeightFactor) {
         let pins = [OpaquePin, OpaquePin, OpaquePin];
         let mut mon = match ExposureMonitor::<9, 3, OpaquePin>::new(m.clone(), w, config, pins) {
             Ok(mon) => mon,
-            Err(Ok(e)) => {
+            Err(ExposureError::Config(e)) => {
                 show(&e);
                 continue;
             }
-            Err(Err(e)) => {
+            Err(ExposureError::Pin(e)) => {
                 black_box(e);
                 continue;
             }

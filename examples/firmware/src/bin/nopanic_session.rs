@@ -6,6 +6,7 @@
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
+use photon_ledger::control::session::SessionError;
 use photon_ledger::prelude::*;
 use photon_ledger::control::session::to_exposure;
 
@@ -33,11 +34,11 @@ fn main() -> ! {
     });
     let mut s = match Session::new(m, config, OpaquePin, OpaquePin) {
         Ok(s) => s,
-        Err(Ok(e)) => {
+        Err(SessionError::Config(e)) => {
             show(&e);
             done()
         }
-        Err(Err(e)) => {
+        Err(SessionError::Pin(e)) => {
             show(&e);
             done()
         }
