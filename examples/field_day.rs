@@ -40,15 +40,15 @@ fn meter(w_per_code: f64, nm: f64) -> Result<Meter, String> {
     )
     .map_err(|e| e.to_string())?;
     let amps_per_code = 2.5 / 65_536.0 / 10.0e6;
-    Meter::new(
-        fe,
-        Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(
             w_per_code / amps_per_code,
         )),
-        Band::Line(Wavelength::from_nm(nm)),
-        TickRate::from_hz(HZ).ok_or("tick rate")?,
-        None,
-    )
+        band: Band::Line(Wavelength::from_nm(nm)),
+        tick_rate: TickRate::from_hz(HZ).ok_or("tick rate")?,
+        sample_area: None,
+    })
     .map_err(|e| e.to_string())
 }
 

@@ -109,16 +109,16 @@ impl Bench {
             ],
         )
         .map_err(err)?;
-        Meter::new(
+        Meter::new(MeterConfig {
             front_end,
-            Calibration::Responsivity {
+            calibration: Calibration::Responsivity {
                 responsivity: Responsivity::from_a_per_w(0.22),
                 active_area: Area::from_mm2(1.0),
             },
-            band(),
-            TickRate::from_hz(TICK_HZ).ok_or("tick rate")?,
-            None,
-        )
+            band: band(),
+            tick_rate: TickRate::from_hz(TICK_HZ).ok_or("tick rate")?,
+            sample_area: None,
+        })
         .map_err(err)
     }
 

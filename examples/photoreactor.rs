@@ -60,19 +60,19 @@ fn main() -> Result<(), String> {
         ],
     )
     .map_err(|e| e.to_string())?;
-    let meter = Meter::new(
+    let meter = Meter::new(MeterConfig {
         front_end,
-        Calibration::Responsivity {
+        calibration: Calibration::Responsivity {
             responsivity: Responsivity::from_a_per_w(0.22),
             active_area: Area::from_mm2(1.0),
         },
-        Band::Led {
+        band: Band::Led {
             peak: Wavelength::from_nm(405.0),
             fwhm: Wavelength::from_nm(14.0),
         },
-        TickRate::from_hz(TICK_HZ).ok_or("tick rate")?,
-        Some(Area::from_cm2(4.0)),
-    )
+        tick_rate: TickRate::from_hz(TICK_HZ).ok_or("tick rate")?,
+        sample_area: Some(Area::from_cm2(4.0)),
+    })
     .map_err(|e| e.to_string())?;
     let target = PhotonAmount::from_umol(20.0);
     let config = SessionConfig {

@@ -47,16 +47,16 @@ fn meter() -> Meter {
         }],
     )
     .expect("front end");
-    Meter::new(
-        fe,
-        Calibration::Responsivity {
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Responsivity {
             responsivity: Responsivity::from_a_per_w(0.2),
             active_area: Area::from_mm2(1.0),
         },
-        Band::Line(Wavelength::from_nm(365.0)),
-        TickRate::from_hz(1000).expect("rate"),
-        None,
-    )
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(1000).expect("rate"),
+        sample_area: None,
+    })
     .expect("meter")
 }
 

@@ -91,14 +91,16 @@
 //!               coding: Coding::Unipolar, saturation_margin: 2 },
 //!     &[AmplifierRange { gain: Transimpedance::from_kohm(100.0), dark_offset: 4 }],
 //! ).unwrap();
-//! let meter = Meter::new(
+//! let meter = Meter::new(MeterConfig {
 //!     front_end,
-//!     Calibration::Responsivity { responsivity: Responsivity::from_a_per_w(0.2),
-//!                                 active_area: Area::from_mm2(1.0) },
-//!     Band::Led { peak: Wavelength::from_nm(405.0), fwhm: Wavelength::from_nm(15.0) },
-//!     TickRate::from_hz(1_000).unwrap(),
-//!     None,
-//! ).unwrap();
+//!     calibration: Calibration::Responsivity {
+//!         responsivity: Responsivity::from_a_per_w(0.2),
+//!         active_area: Area::from_mm2(1.0),
+//!     },
+//!     band: Band::Led { peak: Wavelength::from_nm(405.0), fwhm: Wavelength::from_nm(15.0) },
+//!     tick_rate: TickRate::from_hz(1_000).unwrap(),
+//!     sample_area: None,
+//! }).unwrap();
 //! let config = SessionConfig {
 //!     target: DoseAmount::RadiantExposure(RadiantExposure::from_mj_per_cm2(5.0)),
 //!     tolerance: DoseAmount::RadiantExposure(RadiantExposure::from_mj_per_cm2(0.5)),
@@ -107,7 +109,7 @@
 //!     enable_level: ActiveLevel::High,
 //!     alarm_level: ActiveLevel::High,
 //! };
-//! let mut session = Session::new(meter, config, Pin, Pin).map_err(|_| ()).unwrap();
+//! let mut session = Session::new(meter, config, Pin, Pin).unwrap();
 //! session.start().unwrap();
 //! // 2000 net codes = 1.611 V / 100 kΩ / (0.2 A/W × 1 mm²) ≈ 80.6 W/m² here; sample every
 //! // 10 ms until the target (50 J/m², about 0.62 s) is met.
@@ -174,7 +176,7 @@ pub mod prelude {
     };
     pub use crate::dose::{Integrator, Rounding, SampleError};
     pub use crate::frontend::{AdcSpec, AmplifierRange, CodeFault, Coding, FrontEnd, Sample};
-    pub use crate::irradiance::{Calibration, Meter};
+    pub use crate::irradiance::{Calibration, Meter, MeterConfig};
     pub use crate::journal::checkpoint::{CheckpointConfig, Checkpointer};
     pub use crate::journal::{Journal, JournalConfig, JournalError, Retention};
     pub use crate::photochem::reactor::{AbsorbanceModel, PhotochemConfig, Reactor};

@@ -2,6 +2,7 @@
 
 use crate::acquire::reading::TickRate;
 use crate::frontend::{AdcSpec, AmplifierRange, Coding, FrontEnd};
+use crate::irradiance::MeterConfig;
 use crate::irradiance::{Calibration, Meter};
 use crate::quantity::{IrradiancePerCurrent, Transimpedance, Voltage, Wavelength};
 use crate::spectral::band::Band;
@@ -29,12 +30,12 @@ pub(crate) fn two_range_meter(nm: f64) -> Meter {
         ],
     )
     .unwrap();
-    Meter::new(
-        fe,
-        Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e9)),
-        Band::Line(Wavelength::from_nm(nm)),
-        TickRate::from_hz(1000).unwrap(),
-        None,
-    )
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e9)),
+        band: Band::Line(Wavelength::from_nm(nm)),
+        tick_rate: TickRate::from_hz(1000).unwrap(),
+        sample_area: None,
+    })
     .unwrap()
 }

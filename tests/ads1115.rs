@@ -104,13 +104,13 @@ fn bus_error_is_passed_on_and_the_session_reaches_the_safe_state() {
         }],
     )
     .unwrap();
-    let meter = Meter::new(
-        fe,
-        Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(2e5)),
-        Band::Line(Wavelength::from_nm(254.0)),
-        TickRate::from_hz(32_768).unwrap(),
-        None,
-    )
+    let meter = Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(2e5)),
+        band: Band::Line(Wavelength::from_nm(254.0)),
+        tick_rate: TickRate::from_hz(32_768).unwrap(),
+        sample_area: None,
+    })
     .unwrap();
     let mut en = PinMock::new(&[
         Pin::set(State::Low),

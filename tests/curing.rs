@@ -30,16 +30,16 @@ fn round_meter() -> Meter {
         }],
     )
     .unwrap();
-    Meter::new(
-        fe,
-        Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e9)),
-        Band::Led {
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e9)),
+        band: Band::Led {
             peak: Wavelength::from_nm(395.0),
             fwhm: Wavelength::from_nm(12.0),
         },
-        TickRate::from_hz(1000).unwrap(),
-        None,
-    )
+        tick_rate: TickRate::from_hz(1000).unwrap(),
+        sample_area: None,
+    })
     .unwrap()
 }
 

@@ -473,19 +473,19 @@ fn a_fine_code_step_is_read_exactly_not_twenty_percent_high() {
         }],
     )
     .unwrap();
-    let m = Meter::new(
-        fe,
-        Calibration::Responsivity {
+    let m = Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Responsivity {
             responsivity: Responsivity::from_a_per_w(0.2),
             active_area: Area::from_mm2(1.0),
         },
-        Band::Led {
+        band: Band::Led {
             peak: Wavelength::from_nm(395.0),
             fwhm: Wavelength::from_nm(10.0),
         },
-        TickRate::from_hz(32_768).unwrap(),
-        None,
-    )
+        tick_rate: TickRate::from_hz(32_768).unwrap(),
+        sample_area: None,
+    })
     .unwrap();
     let w = 1e-4;
     let k = m.j_per_m2_per_unit(RangeIndex(0));

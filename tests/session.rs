@@ -274,13 +274,13 @@ fn configuration_errors_are_named_and_touch_no_pin() {
     }
     // Photons without an illuminated area.
     let fe = meter().front_end().clone();
-    let no_area = Meter::new(
-        fe,
-        Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e5)),
-        Band::Line(Wavelength::from_nm(365.0)),
-        TickRate::from_hz(1000).unwrap(),
-        None,
-    )
+    let no_area = Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e5)),
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(1000).unwrap(),
+        sample_area: None,
+    })
     .unwrap();
     let mut c = config(1.0, 0.1);
     c.target = DoseAmount::Photons(PhotonAmount::from_umol(1.0));

@@ -164,16 +164,16 @@ fn certificate_under_one_source_used_under_another() {
     // The detector is more sensitive at 395 nm than at 365 nm, so the corrected factor is
     // smaller (F* < 1); the exact value is the CIE ILV 17-25-115 ratio computed in spectrum.rs.
     assert!(k.w_per_m2_per_a() < 4.0e6);
-    let meter = Meter::new(
-        front_end(),
-        Calibration::Certificate(k),
-        Band::Led {
+    let meter = Meter::new(MeterConfig {
+        front_end: front_end(),
+        calibration: Calibration::Certificate(k),
+        band: Band::Led {
             peak: Wavelength::from_nm(395.0),
             fwhm: Wavelength::from_nm(12.0),
         },
-        TickRate::from_hz(1000).unwrap(),
-        None,
-    )
+        tick_rate: TickRate::from_hz(1000).unwrap(),
+        sample_area: None,
+    })
     .unwrap();
     assert_eq!(meter.calibration(), k);
     // Expired under Refuse: not usable.

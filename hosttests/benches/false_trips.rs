@@ -52,16 +52,16 @@ fn main() {
         }],
     )
     .expect("front end");
-    let meter = Meter::new(
-        fe,
-        Calibration::Responsivity {
+    let meter = Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Responsivity {
             responsivity: Responsivity::from_a_per_w(0.15),
             active_area: Area::from_mm2(0.2),
         },
-        Band::Line(Wavelength::from_nm(365.0)),
-        TickRate::from_hz(1000).expect("rate"),
-        None,
-    )
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(1000).expect("rate"),
+        sample_area: None,
+    })
     .expect("meter");
     // Limits set from the chain: σ = 1.2 codes; stuck after 32 identical codes; pinned after
     // 16 rail codes; −6σ; the LED's own fastest change while on is far below 20 W/m² per ms

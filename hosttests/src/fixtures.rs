@@ -21,15 +21,15 @@ pub fn round_meter(w_per_m2_per_code: f64, tick_hz: u32) -> Meter {
         }],
     )
     .expect("valid front end");
-    Meter::new(
-        fe,
-        Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(
             w_per_m2_per_code * 1e9,
         )),
-        Band::Line(Wavelength::from_nm(365.0)),
-        TickRate::from_hz(tick_hz).expect("non-zero tick rate"),
-        None,
-    )
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(tick_hz).expect("non-zero tick rate"),
+        sample_area: None,
+    })
     .expect("valid meter")
 }
 

@@ -191,16 +191,16 @@ pub fn demo_meter(tick_hz: u32) -> Meter {
         }],
     )
     .expect("valid demo front end");
-    Meter::new(
-        fe,
-        Calibration::Certificate(IrradiancePerCurrent::from_mw_per_cm2_per_ua(12.0)),
-        Band::Led {
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Certificate(IrradiancePerCurrent::from_mw_per_cm2_per_ua(12.0)),
+        band: Band::Led {
             peak: Wavelength::from_nm(395.0),
             fwhm: Wavelength::from_nm(12.0),
         },
-        TickRate::from_hz(tick_hz).expect("tick rate ≥ 1"),
-        None,
-    )
+        tick_rate: TickRate::from_hz(tick_hz).expect("tick rate ≥ 1"),
+        sample_area: None,
+    })
     .expect("valid demo meter")
 }
 

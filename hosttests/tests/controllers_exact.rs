@@ -48,13 +48,15 @@ fn meter(step: f64, ratio: f64, hz: u32) -> Meter {
         ],
     )
     .unwrap();
-    Meter::new(
-        fe,
-        Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(step * 1e9)),
-        Band::Line(Wavelength::from_nm(365.0)),
-        TickRate::from_hz(hz).unwrap(),
-        None,
-    )
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(
+            step * 1e9,
+        )),
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(hz).unwrap(),
+        sample_area: None,
+    })
     .unwrap()
 }
 

@@ -643,20 +643,20 @@ fn fuzz_front_end_and_meter_builders() {
                 prop_assert_eq!(hz, 0);
                 return Ok(());
             };
-            let m = Meter::new(
-                fe,
-                Calibration::Responsivity {
+            let m = Meter::new(MeterConfig {
+                front_end: fe,
+                calibration: Calibration::Responsivity {
                     responsivity: Responsivity::from_a_per_w(resp),
                     active_area: Area::from_m2(1e-6),
                 },
-                Band::Line(Wavelength::from_nm(nm)),
-                rate,
-                if area.is_sign_negative() {
+                band: Band::Line(Wavelength::from_nm(nm)),
+                tick_rate: rate,
+                sample_area: if area.is_sign_negative() {
                     None
                 } else {
                     Some(Area::from_m2(area))
                 },
-            );
+            });
             match m {
                 Ok(m) => {
                     if !(resp.is_finite() && resp > 0.0) {

@@ -9,6 +9,7 @@ use hosttests::flash::{SimError, SimFlash};
 use photon_ledger::acquire::reading::{RangeIndex, TickRate, Ticks};
 use photon_ledger::dose::Integrator;
 use photon_ledger::frontend::{AdcSpec, AmplifierRange, Coding, FrontEnd};
+use photon_ledger::irradiance::MeterConfig;
 use photon_ledger::irradiance::{Calibration, Meter};
 use photon_ledger::journal::checkpoint::{full_scale_irradiance, CheckpointConfig, Checkpointer};
 use photon_ledger::journal::record::{
@@ -46,16 +47,16 @@ fn meter() -> Meter {
         }],
     )
     .unwrap();
-    Meter::new(
-        fe,
-        Calibration::Responsivity {
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Responsivity {
             responsivity: Responsivity::from_a_per_w(0.2),
             active_area: Area::from_mm2(1.0),
         },
-        Band::Line(Wavelength::from_nm(365.0)),
-        TickRate::from_hz(1000).unwrap(),
-        None,
-    )
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(1000).unwrap(),
+        sample_area: None,
+    })
     .unwrap()
 }
 

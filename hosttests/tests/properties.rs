@@ -66,15 +66,15 @@ fn three_range_meter() -> Meter {
         &ranges,
     )
     .expect("valid front end");
-    Meter::new(
-        fe,
-        Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(
             CERT_W_PER_M2_PER_A,
         )),
-        Band::Line(Wavelength::from_nm(365.0)),
-        TickRate::from_hz(TICK_HZ).expect("non-zero tick rate"),
-        None,
-    )
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(TICK_HZ).expect("non-zero tick rate"),
+        sample_area: None,
+    })
     .expect("valid meter")
 }
 

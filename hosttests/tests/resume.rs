@@ -5,6 +5,7 @@
 //! sample step), and stops at most one checkpoint horizon early.
 
 use core::convert::Infallible;
+use photon_ledger::irradiance::MeterConfig;
 
 use hosttests::flash::SimFlash;
 use hosttests::image::image_to_csv;
@@ -54,19 +55,19 @@ fn meter() -> Meter {
         }],
     )
     .unwrap();
-    Meter::new(
-        fe,
-        Calibration::Responsivity {
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Responsivity {
             responsivity: Responsivity::from_a_per_w(0.2),
             active_area: Area::from_mm2(1.0),
         },
-        Band::Led {
+        band: Band::Led {
             peak: Wavelength::from_nm(405.0),
             fwhm: Wavelength::from_nm(15.0),
         },
-        TickRate::from_hz(1000).unwrap(),
-        None,
-    )
+        tick_rate: TickRate::from_hz(1000).unwrap(),
+        sample_area: None,
+    })
     .unwrap()
 }
 

@@ -59,19 +59,19 @@ fn example_meter_by_hand() -> (Meter, SessionConfig) {
         ],
     )
     .unwrap();
-    let meter = Meter::new(
-        fe,
-        Calibration::Responsivity {
+    let meter = Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Responsivity {
             responsivity: Responsivity::from_a_per_w(0.22),
             active_area: Area::from_mm2(1.0),
         },
-        Band::Led {
+        band: Band::Led {
             peak: Wavelength::from_nm(405.0),
             fwhm: Wavelength::from_nm(14.0),
         },
-        TickRate::from_hz(1000).unwrap(),
-        Some(Area::from_cm2(4.0)),
-    )
+        tick_rate: TickRate::from_hz(1000).unwrap(),
+        sample_area: Some(Area::from_cm2(4.0)),
+    })
     .unwrap();
     let cfg = SessionConfig {
         target: DoseAmount::Photons(PhotonAmount::from_umol(5.0)),

@@ -387,7 +387,7 @@ mod tests {
     use super::*;
     use crate::acquire::reading::{TickRate, Ticks};
     use crate::frontend::{AdcSpec, AmplifierRange, Coding};
-    use crate::irradiance::Calibration;
+    use crate::irradiance::{Calibration, MeterConfig};
     use crate::quantity::{IrradiancePerCurrent, Transimpedance, Voltage, Wavelength};
     use crate::spectral::band::Band;
 
@@ -413,13 +413,13 @@ mod tests {
             ],
         )
         .unwrap();
-        Meter::new(
-            fe,
-            Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e5)),
-            Band::Line(Wavelength::from_nm(365.0)),
-            TickRate::from_hz(1000).unwrap(),
-            None,
-        )
+        Meter::new(MeterConfig {
+            front_end: fe,
+            calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e5)),
+            band: Band::Line(Wavelength::from_nm(365.0)),
+            tick_rate: TickRate::from_hz(1000).unwrap(),
+            sample_area: None,
+        })
         .unwrap()
     }
 

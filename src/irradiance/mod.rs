@@ -95,6 +95,23 @@ impl Calibration {
     }
 }
 
+/// Everything a [`Meter`] is built from, by name; validated once by [`Meter::new`].
+#[derive(Debug, Clone, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct MeterConfig {
+    /// The converter and amplifier ranges.
+    pub front_end: FrontEnd,
+    /// How photocurrent becomes irradiance.
+    pub calibration: Calibration,
+    /// The light's band (a line or an LED).
+    pub band: Band,
+    /// The rate of the caller's tick counter.
+    pub tick_rate: TickRate,
+    /// The illuminated sample area (or vessel aperture), for doses in mol of photons; `None`
+    /// if only per-area doses are needed. Valid: finite, > 0.
+    pub sample_area: Option<Area>,
+}
+
 /// Why a meter could not be built.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -134,18 +151,18 @@ pub struct Meter {
 }
 
 impl Meter {
-    /// Join the stages. `sample_area` is the illuminated area of the sample (or vessel
-    /// aperture) used for doses in mol of photons; `None` if only per-area doses are needed.
+    /// Join the stages named in `config`.
     ///
     /// # Errors
     /// [`MeterError`] naming the invalid stage.
-    pub fn new(
-        front_end: FrontEnd,
-        calibration: Calibration,
-        band: Band,
-        tick_rate: TickRate,
-        sample_area: Option<Area>,
-    ) -> Result<Self, MeterError> {
+    pub fn new(config: MeterConfig) -> Result<Self, MeterError> {
+        let MeterConfig {
+            front_end,
+            calibration,
+            band,
+            tick_rate,
+            sample_area,
+        } = config;
         let band = BandFactors::new(&band).map_err(MeterError::Band)?;
         Self::with_band_factors(front_end, calibration, band, tick_rate, sample_area)
     }

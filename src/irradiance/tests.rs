@@ -36,13 +36,13 @@ fn sensor_chain_inverts_exactly() {
     let k = cal.factor().unwrap();
     let e = Irradiance::from_w_per_m2(Current::from_ua(2.0).a() * k.w_per_m2_per_a());
     assert!(rel(e.w_per_m2(), 10.0) < 1e-12);
-    let m = Meter::new(
-        front_end(),
-        cal,
-        Band::Line(Wavelength::from_nm(365.0)),
-        TickRate::from_hz(1000).unwrap(),
-        None,
-    )
+    let m = Meter::new(MeterConfig {
+        front_end: front_end(),
+        calibration: cal,
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(1000).unwrap(),
+        sample_area: None,
+    })
     .unwrap();
     // 0.200 V at 2.5 V / 65 536 codes is 5242.88 codes.
     let volts_per_code = 2.5 / 65_536.0;
@@ -54,13 +54,13 @@ fn sensor_chain_inverts_exactly() {
 fn photon_irradiance_at_365_nm() {
     // Worked conversion, computed from the exact SI 2019 constants:
     // 10 W/m² at 365 nm = 30.5116 µmol m⁻² s⁻¹.
-    let m = Meter::new(
-        front_end(),
-        Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e6)),
-        Band::Line(Wavelength::from_nm(365.0)),
-        TickRate::from_hz(1).unwrap(),
-        Some(Area::from_cm2(2.0)),
-    )
+    let m = Meter::new(MeterConfig {
+        front_end: front_end(),
+        calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e6)),
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(1).unwrap(),
+        sample_area: Some(Area::from_cm2(2.0)),
+    })
     .unwrap();
     let q = m.photon_irradiance(Irradiance::from_w_per_m2(10.0));
     assert!(rel(q.umol_per_m2_s(), 30.5116) < 2e-6);
@@ -85,12 +85,12 @@ fn invalid_calibration_is_named() {
     assert_eq!(bad_a.factor(), Err(CalibrationError::ActiveArea));
     let bad_k = Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(-1.0));
     assert_eq!(bad_k.factor(), Err(CalibrationError::Factor));
-    let m = Meter::new(
-        front_end(),
-        Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1.0)),
-        Band::Line(Wavelength::from_nm(365.0)),
-        TickRate::from_hz(1).unwrap(),
-        Some(Area::from_m2(0.0)),
-    );
+    let m = Meter::new(MeterConfig {
+        front_end: front_end(),
+        calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1.0)),
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(1).unwrap(),
+        sample_area: Some(Area::from_m2(0.0)),
+    });
     assert_eq!(m, Err(MeterError::SampleArea));
 }

@@ -25,13 +25,13 @@ pub fn meter_with(tick_hz: u32, nm: f64) -> Meter {
         }],
     )
     .unwrap();
-    Meter::new(
-        fe,
-        Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e5)),
-        Band::Line(Wavelength::from_nm(nm)),
-        TickRate::from_hz(tick_hz).unwrap(),
-        Some(Area::from_cm2(1.0)),
-    )
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e5)),
+        band: Band::Line(Wavelength::from_nm(nm)),
+        tick_rate: TickRate::from_hz(tick_hz).unwrap(),
+        sample_area: Some(Area::from_cm2(1.0)),
+    })
     .unwrap()
 }
 

@@ -483,7 +483,14 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
         .sample_area_cm2
         .as_ref()
         .map(|v| Area::from_cm2(*v.get_ref()));
-    let meter = Meter::new(front_end, calibration, band, tick_rate, sample_area).map_err(|e| {
+    let meter = Meter::new(MeterConfig {
+        front_end,
+        calibration,
+        band,
+        tick_rate,
+        sample_area,
+    })
+    .map_err(|e| {
         let (span, key) = match e {
             MeterError::Calibration(CalibrationError::Responsivity) => (
                 c.responsivity_a_per_w

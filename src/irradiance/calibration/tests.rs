@@ -4,6 +4,7 @@ use super::*;
 use crate::acquire::reading::{RangeIndex, TickRate};
 use crate::frontend::{AdcSpec, Coding, FrontEnd};
 use crate::irradiance::Meter;
+use crate::irradiance::MeterConfig;
 use crate::quantity::Voltage;
 
 fn rel(a: f64, b: f64) -> f64 {
@@ -306,16 +307,16 @@ fn record_configures_the_meter() {
     )
     .unwrap();
     assert_eq!(fe.range(RangeIndex(1)).unwrap().dark_offset, 3);
-    let m = Meter::new(
-        fe,
-        r.calibration_at(Temperature::from_celsius(25.0)).unwrap(),
-        crate::spectral::band::Band::Led {
+    let m = Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: r.calibration_at(Temperature::from_celsius(25.0)).unwrap(),
+        band: crate::spectral::band::Band::Led {
             peak: Wavelength::from_nm(365.0),
             fwhm: Wavelength::from_nm(10.0),
         },
-        TickRate::from_hz(1000).unwrap(),
-        None,
-    )
+        tick_rate: TickRate::from_hz(1000).unwrap(),
+        sample_area: None,
+    })
     .unwrap();
     assert_eq!(m.calibration(), r.factor);
     assert_eq!(

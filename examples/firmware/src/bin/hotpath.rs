@@ -73,16 +73,10 @@ fn two_range_meter() -> Option<Meter> {
         ],
     )
     .ok()?;
-    Meter::new(
-        fe,
-        Calibration::Responsivity {
-            responsivity: Responsivity::from_a_per_w(0.2),
-            active_area: Area::from_mm2(1.0),
-        },
-        Band::Line(Wavelength::from_nm(365.0)),
-        TickRate::from_hz(1_000)?,
-        None,
-    )
+    Meter::new(MeterConfig { front_end: fe, calibration: Calibration::Responsivity {
+responsivity: Responsivity::from_a_per_w(0.2),
+active_area: Area::from_mm2(1.0),
+}, band: Band::Line(Wavelength::from_nm(365.0)), tick_rate: TickRate::from_hz(1_000)?, sample_area: None })
     .ok()
 }
 
