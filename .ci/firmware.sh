@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # Firmware proof on emulated Cortex-M: build and run every firmware example in QEMU, measure
 # every budget figure, print a table (figure / measured / limit / goal) and fail when a figure
-# exceeds its enforced limit (examples/firmware/budgets.toml) or any example fails.
+# exceeds its enforced limit (examples/firmware/budgets.toml) or any example fails. Also
+# cross-compiles the real-board example examples/rp2040 (RP2040, built, not run).
 #
 # Every check here is promised: when the thumb targets, QEMU, binutils or defmt-print cannot
 # be installed, the script fails, unless PHOTON_ALLOW_SKIPS=1 is set; then it skips what
@@ -124,6 +125,37 @@ for b in $NOPANIC; do
         fail "no-panic check $b: a panic path survives (or the build failed)"
     fi
 done
+
+# --------------------------------------------------------------------------------------
+# Real-board example: RP2040 (Raspberry Pi Pico) — cross-compiled, never run here
+# --------------------------------------------------------------------------------------
+# A package of its own (examples/rp2040, committed Cargo.lock, --locked), in its own target
+# directory. QEMU stays the run proof; this proves the library builds against a real HAL.
+RP=examples/rp2040
+rp_elf="$RP/target/$V6/release/photon-ledger-rp2040"
+step "RP2040 board example: cargo build --release ($V6, not run)"
+if (cd "$RP" && CARGO_TARGET_DIR="$PWD/target" cargo build -q --release --locked --target "$V6"); then
+    echo "  built: $rp_elf"
+    (cd "$RP" && CARGO_TARGET_DIR="$PWD/target" cargo clippy -q --release --locked --target "$V6" -- -D warnings) ||
+        fail "RP2040 example: clippy warnings"
+    if [ "$have_size" = 1 ]; then
+        arm-none-eabi-size "$rp_elf" | sed 's/^/  /'
+        # The flash routine runs while execute-in-place is off: it must be linked into RAM,
+        # and the second-stage boot loader must sit at the start of the flash.
+        if arm-none-eabi-nm -C "$rp_elf" | grep -Eq '^2[0-9a-f]{7} t .*flash::rom_sequence$'; then
+            echo "  flash routine linked in RAM"
+        else
+            fail "RP2040 example: flash::rom_sequence is not linked in RAM"
+        fi
+        if arm-none-eabi-nm -C "$rp_elf" | grep -Eq '^10000000 [rRdD] .*BOOT2_FIRMWARE$'; then
+            echo "  boot2 at 0x10000000"
+        else
+            fail "RP2040 example: BOOT2_FIRMWARE is not at 0x10000000"
+        fi
+    fi
+else
+    fail "RP2040 example build (examples/rp2040, cargo build --release)"
+fi
 
 # --------------------------------------------------------------------------------------
 # Runs in QEMU
