@@ -77,16 +77,10 @@ fn panic(_: &core::panic::PanicInfo) -> ! {
 // The alarm output's pin type
 // -----------------------------------------------------------------------------------------
 
-// ===== SECOND PIN TYPE — enable with feature `checked-alarm` once the library accepts =====
-// ===== enable and alarm pins with different error types (CuringController::new today ======
-// ===== requires `EN: OutputPin<Error = E>, AL: OutputPin<Error = E>`). ====================
-//
 // `CheckedAlarm` drives the alarm through a HAL pin and reads the pad back after every write,
 // so a shorted or overloaded alarm line is an error (`AlarmLineError`) instead of passing
-// silently. Its error type differs from the HAL pin's (`Infallible`), which is exactly what
-// the library does not accept yet: with the feature on, the build stops at
-// `CuringController::new`. Without it the alarm is a plain HAL output pin.
-#[cfg(feature = "checked-alarm")]
+// silently. Its error type differs from the HAL pin's (`Infallible`): the controller takes
+// both, and a failed alarm write comes back as `PinError::Alarm`.
 mod checked_alarm {
     use embedded_hal::digital::{ErrorKind, ErrorType, OutputPin, StatefulOutputPin};
     use rp2040_hal::gpio::{FunctionSioOutput, Pin, PinId, PullType};
@@ -136,13 +130,6 @@ type EnablePin = Pin<
     rp2040_hal::gpio::FunctionSioOutput,
     rp2040_hal::gpio::PullDown,
 >;
-#[cfg(not(feature = "checked-alarm"))]
-type AlarmPin = Pin<
-    rp2040_hal::gpio::bank0::Gpio14,
-    rp2040_hal::gpio::FunctionSioOutput,
-    rp2040_hal::gpio::PullDown,
->;
-#[cfg(feature = "checked-alarm")]
 type AlarmPin =
     checked_alarm::CheckedAlarm<rp2040_hal::gpio::bank0::Gpio14, rp2040_hal::gpio::PullDown>;
 type InterlockPin =
@@ -170,16 +157,16 @@ fn meter() -> Option<Meter> {
         }],
     )
     .ok()?;
-    Meter::new(
-        fe,
-        Calibration::Responsivity {
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Responsivity {
             responsivity: Responsivity::from_a_per_w(0.20),
             active_area: Area::from_mm2(1.0),
         },
-        Band::Line(Wavelength::from_nm(365.0)),
-        TickRate::from_hz(TICK_HZ)?,
-        None,
-    )
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(TICK_HZ)?,
+        sample_area: None,
+    })
     .ok()
 }
 
@@ -280,9 +267,6 @@ fn main() -> ! {
     let alarm_pin = pins
         .gpio14
         .into_push_pull_output_in_state(rp2040_hal::gpio::PinState::Low);
-    #[cfg(not(feature = "checked-alarm"))]
-    let alarm: AlarmPin = alarm_pin;
-    #[cfg(feature = "checked-alarm")]
     let alarm: AlarmPin = checked_alarm::CheckedAlarm(alarm_pin);
     let interlock: InterlockPin = pins.gpio16.into_pull_up_input();
     let mut start_button = pins.gpio17.into_pull_up_input();
