@@ -2,16 +2,16 @@
 //! simulate sample files, explain a configuration, decode a device's flash image, and keep an
 //! exposure register.
 //!
-//! Run `photon-review --help` (or `cargo run -p hosttests --bin photon-review -- --help`).
+//! Run `photon-review --help` (or `cargo run -p photon-review -- --help`).
 //! Configuration and report keys: `hosttests/review/CONFIG.md`.
 
 use std::io::Write;
 use std::process::ExitCode;
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
-use hosttests::review::decode::{self, Geometry, RetentionPolicy};
-use hosttests::review::register::{self, Grouping, ImageLabels, Register};
-use hosttests::review::{config, demo_image, explain, plot, replay, simulate, time, ReviewError};
+use photon_review::decode::{self, Geometry, RetentionPolicy};
+use photon_review::register::{self, Grouping, ImageLabels, Register};
+use photon_review::{config, demo_image, explain, plot, replay, simulate, time, ReviewError};
 
 #[derive(Parser)]
 #[command(
@@ -508,11 +508,11 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
                             d.day_utc,
                             opt(&d.group),
                             d.sessions,
-                            hosttests::review::report::sig(d.radiant_exposure_j_per_m2),
+                            photon_review::report::sig(d.radiant_exposure_j_per_m2),
                             d.photons_mol
-                                .map_or("-".into(), |m| hosttests::review::report::sig(m * 1e6)),
+                                .map_or("-".into(), |m| photon_review::report::sig(m * 1e6)),
                             d.effective_exposure_j_per_m2
-                                .map_or("-".into(), hosttests::review::report::sig),
+                                .map_or("-".into(), photon_review::report::sig),
                         ));
                     }
                 }
@@ -531,7 +531,7 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
                             opt(&f.person_id),
                             opt(&f.reactor_id),
                             f.fault,
-                            hosttests::review::report::sig(f.radiant_exposure_j_per_m2),
+                            photon_review::report::sig(f.radiant_exposure_j_per_m2),
                             f.source_name
                         ));
                     }
@@ -548,8 +548,8 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
                             "{}  {}  {} J/m² effective (limit {} J/m²): {}\n",
                             d.day_utc,
                             opt(&d.who),
-                            hosttests::review::report::sig(d.effective_exposure_j_per_m2),
-                            hosttests::review::report::sig(d.limit_j_per_m2),
+                            photon_review::report::sig(d.effective_exposure_j_per_m2),
+                            photon_review::report::sig(d.limit_j_per_m2),
                             d.reason
                         ));
                     }

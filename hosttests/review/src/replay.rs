@@ -11,7 +11,7 @@ use std::time::{Duration, Instant};
 
 use photon_ledger::exposure::SolarMonitor;
 use photon_ledger::prelude::*;
-use photon_ledger::session::{Ignored, SessionConfigError};
+use photon_ledger::session::{to_exposure, Ignored, SessionConfigError};
 use sha2::{Digest, Sha256};
 
 use super::config::{hex, ReviewConfig};
@@ -507,8 +507,7 @@ impl Replayer {
             })
             .collect();
         let cfg = &self.config;
-        let tol = photon_ledger::session::to_exposure(meter, cfg.session.tolerance)
-            .map_or(0.0, |t| t.j_per_m2());
+        let tol = to_exposure(meter, cfg.session.tolerance).map_or(0.0, |t| t.j_per_m2());
         let start = self.origin_s;
         let end = self.prev.map_or(start, |(t, _)| self.time_s(t));
         let exposure = self

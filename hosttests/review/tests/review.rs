@@ -5,16 +5,16 @@
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
-use hosttests::review::register::{Grouping, Register};
-use hosttests::review::report::Report;
-use hosttests::review::{config, replay, simulate};
 use hosttests::sim::SimPin;
 use photon_ledger::prelude::*;
+use photon_review::register::{Grouping, Register};
+use photon_review::report::Report;
+use photon_review::{config, replay, simulate};
 
 const BIN: &str = env!("CARGO_BIN_EXE_photon-review");
 
 fn examples() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("review/examples")
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("examples")
 }
 
 fn run(args: &[&str]) -> Output {
@@ -497,7 +497,7 @@ fn register_imports_idempotently_and_answers_questions() {
 
 #[test]
 fn register_daily_sum_over_sessions_counts_against_the_limit() {
-    use hosttests::review::register::{SessionSummary, SourceKind};
+    use photon_review::register::{SessionSummary, SourceKind};
     let dir = tempfile::tempdir().unwrap();
     let db = dir.path().join("r.sqlite");
     let mut r = Register::open(s(&db)).unwrap();

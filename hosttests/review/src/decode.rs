@@ -45,8 +45,8 @@ use photon_ledger::journal::{
     Retention, ScanItem, ScanStop, SectorState, MAX_READ_SIZE, SECTOR_HEADER_LEN,
 };
 use photon_ledger::record::{
-    Body, Checkpoint, EventCode, Record, RecordError, SessionEnd, SessionOutcome, SessionStart,
-    StoredExposure, StoredIrradiance, MAX_RECORD_LEN, VERSION_MAJOR,
+    Body, Checkpoint, Event, EventCode, FaultCode, Record, RecordError, SessionEnd, SessionOutcome,
+    SessionStart, StoredExposure, StoredIrradiance, MAX_RECORD_LEN, VERSION_MAJOR,
 };
 use serde::Serialize;
 use sha2::{Digest, Sha256};
@@ -782,7 +782,7 @@ struct SessionAcc {
     last_delivered: Option<StoredExposure>,
     last_checkpoint: Option<Checkpoint>,
     checkpoints: u64,
-    events: Vec<(u32, photon_ledger::record::Event)>,
+    events: Vec<(u32, Event)>,
     end: Option<(u32, SessionEnd)>,
 }
 
@@ -1366,7 +1366,7 @@ fn session_report(
         .map(|(seq, e)| {
             match e.code {
                 EventCode::Fault(f) => faults.push(match f {
-                    photon_ledger::record::FaultCode::Other(c) => format!("other:{c:#04x}"),
+                    FaultCode::Other(c) => format!("other:{c:#04x}"),
                     f => fault_name(f).to_string(),
                 }),
                 EventCode::Resumed => resumed += 1,

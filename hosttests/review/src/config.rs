@@ -48,6 +48,7 @@
 //! Optional `[exposure]` (personal exposure monitor) and `[solar]` (UV index, SED) tables are
 //! described in CONFIG.md.
 
+use photon_ledger::band::BandError;
 use photon_ledger::exposure::{ExposureConfigError, WeightFactor};
 use photon_ledger::frontend::FrontEndError;
 use photon_ledger::irradiance::{CalibrationError, MeterError};
@@ -503,7 +504,7 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
                     .map_or(raw.calibration.span(), |v| v.span()),
                 "calibration.factor_w_per_m2_per_a",
             ),
-            MeterError::Band(photon_ledger::band::BandError::Wavelength) => (
+            MeterError::Band(BandError::Wavelength) => (
                 b.line_nm
                     .as_ref()
                     .or(b.peak_nm.as_ref())
@@ -514,7 +515,7 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
                     "band.peak_nm"
                 },
             ),
-            MeterError::Band(photon_ledger::band::BandError::Fwhm) => (
+            MeterError::Band(BandError::Fwhm) => (
                 b.fwhm_nm.as_ref().map_or(raw.band.span(), |v| v.span()),
                 "band.fwhm_nm",
             ),
