@@ -286,13 +286,16 @@ impl Ctx<'_> {
     }
 }
 
+/// Largest configuration file read, bytes (a configuration is a few kilobytes).
+pub const MAX_CONFIG_BYTES: u64 = 1 << 20;
+
 /// Read and validate a configuration file.
 ///
 /// # Errors
 /// [`ReviewError::Io`] if the file cannot be read; [`ReviewError::Input`] with the line,
 /// column and key of the first bad value, unknown key or syntax error.
 pub fn load(path: &str) -> Result<ReviewConfig, ReviewError> {
-    let bytes = std::fs::read(path).map_err(|e| ReviewError::io(path, e))?;
+    let bytes = super::files::read_limited(path, MAX_CONFIG_BYTES, "configuration file")?;
     parse(path, &bytes)
 }
 

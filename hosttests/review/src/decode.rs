@@ -371,6 +371,8 @@ pub struct Decoded {
     pub complete: bool,
     /// Tool name and version.
     pub tool: String,
+    /// Library name and version (the photon-ledger crate whose journal code decoded it).
+    pub library: String,
     /// The image file.
     pub input: ImageInput,
     /// The geometry it was decoded with.
@@ -900,7 +902,39 @@ pub fn decode_image(file: &str, image: &[u8], g: &Geometry) -> Result<Decoded, R
 /// # Errors
 /// As [`decode_image`], and an unreadable file.
 pub fn decode_file(path: &str, g: &Geometry) -> Result<Decoded, ReviewError> {
-    let image = std::fs::read(path).map_err(|e| ReviewError::io(path, e))?;
+    check_geometry(g)?;
+    let want = g.image_len();
+    // The size is checked from the file's metadata before anything is read: an image larger
+    // than its geometry, or a device, pipe or directory, is refused without reading it.
+    let meta = std::fs::metadata(path).map_err(|e| ReviewError::io(path, e))?;
+    if !meta.is_file() {
+        return Err(ReviewError::Image {
+            file: path.to_string(),
+            offset: None,
+            sector: None,
+            message: "not a regular file (an image is a file read out of the device); not read"
+                .to_string(),
+        });
+    }
+    if meta.len() > want {
+        return Err(ReviewError::Image {
+            file: path.to_string(),
+            offset: Some(want),
+            sector: None,
+            message: format!(
+                "the image is {} bytes, more than the geometry ({} sectors × {} bytes = {want} \
+                 bytes) holds: not this journal's range, or --sectors / --sector-size are \
+                 wrong; not read",
+                meta.len(),
+                g.sectors,
+                g.sector_size_bytes
+            ),
+        });
+    }
+    let mut image = Vec::with_capacity(usize::try_from(meta.len()).unwrap_or(0));
+    std::fs::File::open(path)
+        .and_then(|f| std::io::Read::read_to_end(&mut std::io::Read::take(f, want + 1), &mut image))
+        .map_err(|e| ReviewError::io(path, e))?;
     decode_image(path, &image, g)
 }
 
@@ -1280,7 +1314,8 @@ fn analyse(cx: &Ctx<'_>, states: &[SectorState], m: Mounted) -> Result<Decoded, 
         decode_format: DECODE_FORMAT.into(),
         decode_version: DECODE_VERSION,
         complete: true,
-        tool: format!("photon-review {}", env!("CARGO_PKG_VERSION")),
+        tool: crate::TOOL.to_string(),
+        library: crate::LIBRARY.to_string(),
         input: ImageInput {
             image_file: cx.file.to_string(),
             image_sha256: hex(&Sha256::digest(cx.image)),
@@ -1437,7 +1472,7 @@ impl Decoded {
         let mut s = String::new();
         let g = &self.geometry;
         let jf = &self.journal;
-        let _ = writeln!(s, "photon-review decode ({})", self.tool);
+        let _ = writeln!(s, "photon-review decode ({}, {})", self.tool, self.library);
         let _ = writeln!(
             s,
             "image      {} ({} bytes, sha256 {})",

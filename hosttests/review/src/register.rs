@@ -391,6 +391,9 @@ pub struct LimitDay {
     pub reason: String,
 }
 
+/// Largest replay report read, bytes (a report with 10 000 events is a few megabytes).
+pub const MAX_REPORT_BYTES: u64 = 256 << 20;
+
 /// Read and check replay report files (JSON) into summaries, all before anything is
 /// imported.
 ///
@@ -400,7 +403,19 @@ pub struct LimitDay {
 pub fn report_summaries(paths: &[String]) -> Result<Vec<SessionSummary>, ReviewError> {
     let mut summaries = Vec::with_capacity(paths.len());
     for p in paths {
-        let text = std::fs::read_to_string(p).map_err(|e| ReviewError::io(p, e))?;
+        let bytes = super::files::read_limited(p, MAX_REPORT_BYTES, "replay report")?;
+        let text = String::from_utf8(bytes).map_err(|e| {
+            ReviewError::input(
+                super::error::Place {
+                    file: p.clone(),
+                    ..Default::default()
+                },
+                format!(
+                    "not UTF-8 text (byte {}): not a replay report",
+                    e.utf8_error().valid_up_to()
+                ),
+            )
+        })?;
         let report: Report = serde_json::from_str(&text).map_err(|e| {
             ReviewError::input(
                 super::error::Place {

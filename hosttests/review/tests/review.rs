@@ -562,7 +562,7 @@ fn bad_replay(config: &str, samples: &str) -> String {
     assert!(!json.exists(), "a report was written");
     assert_eq!(stdout(&o), "", "something was presented as a report");
     let e = stderr(&o);
-    assert!(e.contains("no report was written"), "{e}");
+    assert!(e.contains("no file was written"), "{e}");
     e
 }
 
