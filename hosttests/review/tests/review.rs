@@ -503,7 +503,7 @@ fn register_daily_sum_over_sessions_counts_against_the_limit() {
     let mut r = Register::open(s(&db)).unwrap();
     // Two sessions of one person on one day, each below the 30 J/m² limit, together above.
     let session = |hash: &str, hour: u32, eff: f64| SessionSummary {
-        content_sha256: hash.to_string(),
+        content_sha256: hash.repeat(64), // a 64-digit hex key
         source_kind: SourceKind::FlashJournal,
         source_name: "test".to_string(),
         device_id: Some("logger-1".into()),

@@ -274,6 +274,16 @@ enum RegisterAction {
         #[arg(long)]
         json: bool,
     },
+    /// Check a register: SQLite's full integrity check, the schema version and every stored
+    /// value (exit status 1 if anything is wrong).
+    Check {
+        /// Register file.
+        #[arg(long)]
+        db: String,
+        /// Print JSON.
+        #[arg(long)]
+        json: bool,
+    },
 }
 
 /// Standard output: every write error is reported (a full disk fails the command; a closed
@@ -532,6 +542,9 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                     summaries.extend(found.summaries);
                     skipped = found.skipped;
                 }
+                for s in &summaries {
+                    s.validate()?;
+                }
                 let mut r = Register::open(&db)?;
                 let stats = r.import(&summaries)?;
                 for m in &skipped {
@@ -545,7 +558,7 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                 ))?;
             }
             RegisterAction::DosePerDay { db, by, json: j } => {
-                let r = Register::open(&db)?;
+                let r = Register::open_existing(&db)?;
                 let g = match by {
                     By::Device => Grouping::Device,
                     By::Person => Grouping::Person,
@@ -574,7 +587,7 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                 }
             }
             RegisterAction::Faults { db, json: j } => {
-                let rows = Register::open(&db)?.fault_sessions()?;
+                let rows = Register::open_existing(&db)?.fault_sessions()?;
                 if j {
                     out.say(&json(&rows)?)?;
                     out.say("\n")?;
@@ -594,7 +607,7 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                 }
             }
             RegisterAction::LimitDays { db, json: j } => {
-                let rows = Register::open(&db)?.limit_days()?;
+                let rows = Register::open_existing(&db)?.limit_days()?;
                 if j {
                     out.say(&json(&rows)?)?;
                     out.say("\n")?;
@@ -609,6 +622,22 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                             d.reason
                         ))?;
                     }
+                }
+            }
+            RegisterAction::Check { db, json: j } => {
+                let c = Register::open_existing(&db)?.check()?;
+                if j {
+                    out.say(&json(&c)?)?;
+                    out.say("\n")?;
+                } else if c.problems.is_empty() {
+                    out.say(&format!("{db}: ok, {} sessions\n", c.sessions))?;
+                }
+                if !c.problems.is_empty() {
+                    return Err(ReviewError::Register(format!(
+                        "{db}: {} problems: {}",
+                        c.problems.len(),
+                        c.problems.join("; ")
+                    )));
                 }
             }
         },
