@@ -922,10 +922,11 @@ pub fn decode_file(path: &str, g: &Geometry) -> Result<Decoded, ReviewError> {
             offset: Some(want),
             sector: None,
             message: format!(
-                "the image is {} bytes, more than the geometry ({} sectors × {} bytes = {want} \
-                 bytes) holds: not this journal's range, or --sectors / --sector-size are \
-                 wrong; not read",
+                "the image is {} bytes, {} more than the geometry ({} sectors × {} bytes = \
+                 {want} bytes) holds, from image byte {want} on: not this journal's range, or \
+                 --sectors / --sector-size are wrong; not read",
                 meta.len(),
+                meta.len() - want,
                 g.sectors,
                 g.sector_size_bytes
             ),

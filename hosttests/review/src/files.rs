@@ -283,53 +283,133 @@ fn sync_dir(dir: &Path) {
     let _ = dir;
 }
 
-/// Write every `(path, contents)` of a command whose inputs are `inputs`: all checked
-/// ([`check_outputs`]), all written to temporaries and flushed, then renamed into place.
-///
-/// # Errors
-/// A refused output (nothing written), an error writing a temporary (nothing written, no
-/// temporary left), or an error renaming (the message names what was written).
-pub fn write_outputs(files: &[(&str, &[u8])], inputs: &[&str]) -> Result<(), ReviewError> {
-    let names: Vec<&str> = files.iter().map(|(n, _)| *n).collect();
-    let targets = targets(&names, inputs)?;
-    let mut temps = Vec::with_capacity(files.len());
-    for (t, (_, contents)) in targets.iter().zip(files) {
-        let dir = match t.path.parent() {
-            Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-            _ => PathBuf::from("."),
-        };
-        let nothing = |e: std::io::Error| {
+/// An output being written: a temporary file in the output's directory, renamed into place
+/// by [`commit`] together with the command's other outputs.
+pub struct Staged {
+    named: String,
+    path: PathBuf,
+    dir: PathBuf,
+    tmp: tempfile::NamedTempFile,
+}
+
+impl Staged {
+    /// A second handle on the temporary file, to write it (e.g. while a replay runs).
+    ///
+    /// # Errors
+    /// I/O errors.
+    pub fn reopen(&self) -> Result<std::fs::File, ReviewError> {
+        self.tmp.reopen().map_err(|e| self.nothing(e))
+    }
+    /// The output's name as the user gave it.
+    pub fn name(&self) -> &str {
+        &self.named
+    }
+    fn nothing(&self, e: std::io::Error) -> ReviewError {
+        ReviewError::Other(format!(
+            "{}: {e} (while writing its temporary file in {}); nothing was written",
+            self.named,
+            self.dir.display()
+        ))
+    }
+}
+
+fn stage_target(t: Target) -> Result<Staged, ReviewError> {
+    let dir = match t.path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let tmp = tempfile::Builder::new()
+        .prefix(".photon-review-")
+        .suffix(".partial")
+        .tempfile_in(&dir)
+        .map_err(|e| {
             ReviewError::Other(format!(
-                "{}: {e} (while writing its temporary file in {}); nothing was written",
+                "{}: {e} (while creating its temporary file in {}); nothing was written",
                 t.named,
                 dir.display()
             ))
-        };
-        let mut tmp = tempfile::Builder::new()
-            .prefix(".photon-review-")
-            .suffix(".partial")
-            .tempfile_in(&dir)
-            .map_err(nothing)?;
-        tmp.write_all(contents).map_err(nothing)?;
-        tmp.as_file().sync_all().map_err(nothing)?;
-        temps.push((tmp, dir));
+        })?;
+    Ok(Staged {
+        named: t.named,
+        path: t.path,
+        dir,
+        tmp,
+    })
+}
+
+/// Check `path` against `inputs` ([`check_outputs`]) and open its temporary file. Dropping
+/// the result removes the temporary; [`commit`] renames it into place.
+///
+/// # Errors
+/// A refused output, or a temporary file that cannot be created.
+pub fn stage(path: &str, inputs: &[&str]) -> Result<Staged, ReviewError> {
+    stage_target(target(path, inputs)?)
+}
+
+/// Flush every staged file to disk, then rename them all into place (all temporaries are
+/// complete before the first rename).
+///
+/// # Errors
+/// An error flushing (nothing written, no temporary left) or renaming (the message names what
+/// was written).
+pub fn commit(staged: Vec<Staged>) -> Result<(), ReviewError> {
+    for s in &staged {
+        s.tmp.as_file().sync_all().map_err(|e| s.nothing(e))?;
     }
-    let mut done: Vec<&str> = Vec::new();
-    for (t, (tmp, dir)) in targets.iter().zip(temps) {
-        if let Err(e) = tmp.persist(&t.path) {
+    let mut done: Vec<String> = Vec::new();
+    for s in staged {
+        let Staged {
+            named,
+            path,
+            dir,
+            tmp,
+        } = s;
+        if let Err(e) = tmp.persist(&path) {
             let written = if done.is_empty() {
                 "nothing was written".to_string()
             } else {
                 format!("written before the error: {}", done.join(", "))
             };
             return Err(ReviewError::Other(format!(
-                "{}: {} (renaming its temporary file into place); {written}",
-                t.named, e.error
+                "{named}: {} (renaming its temporary file into place); {written}",
+                e.error
             )));
         }
         sync_dir(&dir);
-        note_written(&t.named);
-        done.push(&t.named);
+        note_written(&named);
+        done.push(named);
     }
     Ok(())
+}
+
+/// Write every `(path, contents)` of a command whose inputs are `inputs`, together with the
+/// already `staged` outputs: all checked ([`check_outputs`]), all written to temporaries and
+/// flushed, then renamed into place.
+///
+/// # Errors
+/// A refused output (nothing written), an error writing a temporary (nothing written, no
+/// temporary left), or an error renaming (the message names what was written).
+pub fn write_outputs_with(
+    files: &[(&str, &[u8])],
+    mut staged: Vec<Staged>,
+    inputs: &[&str],
+) -> Result<(), ReviewError> {
+    let mut names: Vec<&str> = staged.iter().map(|s| s.named.as_str()).collect();
+    names.extend(files.iter().map(|(n, _)| *n));
+    let mut targets = targets(&names, inputs)?;
+    let fresh = targets.split_off(staged.len());
+    for (t, (_, contents)) in fresh.into_iter().zip(files) {
+        let mut s = stage_target(t)?;
+        s.tmp.write_all(contents).map_err(|e| s.nothing(e))?;
+        staged.push(s);
+    }
+    commit(staged)
+}
+
+/// [`write_outputs_with`] without staged outputs.
+///
+/// # Errors
+/// As [`write_outputs_with`].
+pub fn write_outputs(files: &[(&str, &[u8])], inputs: &[&str]) -> Result<(), ReviewError> {
+    write_outputs_with(files, Vec::new(), inputs)
 }

@@ -681,7 +681,7 @@ fn cli_refuses(image: &[u8], extra: &[&str], needles: &[&str]) {
     for n in needles {
         assert!(err.contains(n), "{n}: {err}");
     }
-    assert!(err.contains("nothing was decoded or written"), "{err}");
+    assert!(err.contains("no file was written"), "{err}");
     assert!(stdout(&o).is_empty(), "{}", stdout(&o));
     assert!(!json.exists() && !csv.exists());
     assert_eq!(

@@ -15,7 +15,7 @@ use std::process::ExitCode;
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use photon_review::decode::{self, Geometry, RetentionPolicy};
-use photon_review::files::{check_outputs, write_outputs};
+use photon_review::files::{self, check_outputs, write_outputs};
 use photon_review::register::{self, Grouping, ImageLabels, Register};
 use photon_review::report::sig;
 use photon_review::{config, demo_image, explain, plot, replay, simulate, time, ReviewError};
@@ -36,9 +36,21 @@ struct Cli {
     command: Command,
 }
 
-#[derive(Clone, Copy, ValueEnum)]
+#[derive(Clone, Copy, PartialEq, Eq, ValueEnum)]
 enum Format {
+    /// The text report.
     Text,
+    /// The JSON report.
+    Json,
+    /// The time series (one row per sample), as `--series` writes it.
+    Csv,
+}
+
+#[derive(Clone, Copy, PartialEq, Eq, ValueEnum)]
+enum TextJson {
+    /// Text for people.
+    Text,
+    /// JSON for programs.
     Json,
 }
 
@@ -133,6 +145,10 @@ enum Command {
         /// Draw irradiance and dose against time into this SVG file.
         #[arg(long)]
         plot: Option<String>,
+        /// Write the time series (time, irradiance, photon irradiance, dose, phase per sample)
+        /// as CSV to this file.
+        #[arg(long)]
+        series: Option<String>,
         /// Never show a progress bar.
         #[arg(long)]
         no_progress: bool,
@@ -203,7 +219,10 @@ enum Command {
         /// Session configuration file (TOML).
         #[arg(long, short = 'c')]
         config: String,
-        /// Print JSON instead of text.
+        /// What to print on standard output.
+        #[arg(long, value_enum, default_value = "text")]
+        format: TextJson,
+        /// Same as `--format json`.
         #[arg(long)]
         json: bool,
     },
@@ -252,7 +271,10 @@ enum RegisterAction {
         /// Group by.
         #[arg(long, value_enum, default_value = "device")]
         by: By,
-        /// Print JSON.
+        /// What to print on standard output.
+        #[arg(long, value_enum, default_value = "text")]
+        format: TextJson,
+        /// Same as `--format json`.
         #[arg(long)]
         json: bool,
     },
@@ -261,7 +283,10 @@ enum RegisterAction {
         /// Register file.
         #[arg(long)]
         db: String,
-        /// Print JSON.
+        /// What to print on standard output.
+        #[arg(long, value_enum, default_value = "text")]
+        format: TextJson,
+        /// Same as `--format json`.
         #[arg(long)]
         json: bool,
     },
@@ -270,7 +295,10 @@ enum RegisterAction {
         /// Register file.
         #[arg(long)]
         db: String,
-        /// Print JSON.
+        /// What to print on standard output.
+        #[arg(long, value_enum, default_value = "text")]
+        format: TextJson,
+        /// Same as `--format json`.
         #[arg(long)]
         json: bool,
     },
@@ -280,7 +308,10 @@ enum RegisterAction {
         /// Register file.
         #[arg(long)]
         db: String,
-        /// Print JSON.
+        /// What to print on standard output.
+        #[arg(long, value_enum, default_value = "text")]
+        format: TextJson,
+        /// Same as `--format json`.
         #[arg(long)]
         json: bool,
     },
@@ -327,6 +358,7 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
             json: json_out,
             text,
             plot: plot_out,
+            series: series_out,
             no_progress,
             device_id,
             person_id,
@@ -335,7 +367,7 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
             strict,
         } => {
             let inputs = [config.as_str(), samples.as_str()];
-            let outputs: Vec<&str> = [&json_out, &text, &plot_out]
+            let outputs: Vec<&str> = [&series_out, &json_out, &text, &plot_out]
                 .into_iter()
                 .flatten()
                 .map(String::as_str)
@@ -360,7 +392,40 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                     *slot = v;
                 }
             }
-            let result = replay::replay_file(&cfg, &samples, plot_out.is_some(), !no_progress)?;
+            let mut staged = Vec::new();
+            let series: Option<(Box<dyn Write>, String)> = match (&series_out, print) {
+                (Some(_), Format::Csv) => {
+                    return Err(ReviewError::Other(
+                        "--format csv prints the time series and --series FILE writes it: \
+                         give one of them"
+                            .into(),
+                    ))
+                }
+                (Some(p), _) => {
+                    let st = files::stage(p, &inputs)?;
+                    let f = st.reopen()?;
+                    staged.push(st);
+                    Some((
+                        Box::new(std::io::BufWriter::with_capacity(1 << 16, f)),
+                        p.clone(),
+                    ))
+                }
+                (None, Format::Csv) => Some((
+                    Box::new(std::io::BufWriter::with_capacity(
+                        1 << 16,
+                        std::io::stdout(),
+                    )),
+                    "-".to_string(),
+                )),
+                (None, _) => None,
+            };
+            let result = replay::replay_file_with_series(
+                &cfg,
+                &samples,
+                plot_out.is_some(),
+                !no_progress,
+                series,
+            )?;
             // Everything below runs only after the whole file was replayed.
             let report = &result.report;
             let svg = match (&plot_out, &result.series) {
@@ -379,13 +444,14 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
             if let (Some(p), Some(svg)) = (&plot_out, &svg) {
                 files.push((p, svg.as_bytes()));
             }
-            write_outputs(&files, &inputs)?;
+            files::write_outputs_with(&files, staged, &inputs)?;
             match print {
                 Format::Text => out.say(&text_report)?,
                 Format::Json => {
                     out.say(&json_report)?;
                     out.say("\n")?;
                 }
+                Format::Csv => {} // written during the replay
             }
             if strict && report.outcome.stop_reason != "target_met" {
                 done = Done::NotMet(format!(
@@ -500,7 +566,12 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                 out.say(&format!("{p}: its configuration\n"))?;
             }
         }
-        Command::Explain { config, json: j } => {
+        Command::Explain {
+            config,
+            json: json_flag,
+            format,
+        } => {
+            let j = json_flag || format == TextJson::Json;
             let cfg = config::load(&config)?;
             if j {
                 out.say(&json(&explain::factors(&cfg))?)?;
@@ -557,7 +628,13 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                     r.session_count()?
                 ))?;
             }
-            RegisterAction::DosePerDay { db, by, json: j } => {
+            RegisterAction::DosePerDay {
+                db,
+                by,
+                json: json_flag,
+                format,
+            } => {
+                let j = json_flag || format == TextJson::Json;
                 let r = Register::open_existing(&db)?;
                 let g = match by {
                     By::Device => Grouping::Device,
@@ -586,7 +663,12 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                     }
                 }
             }
-            RegisterAction::Faults { db, json: j } => {
+            RegisterAction::Faults {
+                db,
+                json: json_flag,
+                format,
+            } => {
+                let j = json_flag || format == TextJson::Json;
                 let rows = Register::open_existing(&db)?.fault_sessions()?;
                 if j {
                     out.say(&json(&rows)?)?;
@@ -606,7 +688,12 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                     }
                 }
             }
-            RegisterAction::LimitDays { db, json: j } => {
+            RegisterAction::LimitDays {
+                db,
+                json: json_flag,
+                format,
+            } => {
+                let j = json_flag || format == TextJson::Json;
                 let rows = Register::open_existing(&db)?.limit_days()?;
                 if j {
                     out.say(&json(&rows)?)?;
@@ -624,7 +711,12 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                     }
                 }
             }
-            RegisterAction::Check { db, json: j } => {
+            RegisterAction::Check {
+                db,
+                json: json_flag,
+                format,
+            } => {
+                let j = json_flag || format == TextJson::Json;
                 let c = Register::open_existing(&db)?.check()?;
                 if j {
                     out.say(&json(&c)?)?;
