@@ -79,7 +79,25 @@ struct ConfigToml {
     session: S<SessionToml>,
     exposure: Option<S<ExposureToml>>,
     solar: Option<S<SolarToml>>,
+    samples: Option<S<SamplesToml>>,
 }
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct SamplesToml {
+    extra_columns: S<Vec<String>>,
+}
+
+/// Column names the sample file reader knows (an extra column may not take one of them).
+pub const SAMPLE_COLUMNS: [&str; 7] = [
+    "time_s",
+    "time_ticks",
+    "adc_code",
+    "current_a",
+    "irradiance_w_per_m2",
+    "range",
+    "temperature_c",
+];
 
 /// Labels of a run, copied into the report and the exposure register. All optional.
 #[derive(Debug, Clone, Default, PartialEq, Eq, Serialize, Deserialize)]
@@ -240,6 +258,8 @@ pub struct ReviewConfig {
     pub exposure: Option<ExposureSetup>,
     /// Solar UV, if configured.
     pub solar: Option<SolarSetup>,
+    /// Sample file columns declared in `[samples] extra_columns`: accepted and not read.
+    pub extra_columns: Vec<String>,
 }
 
 struct Ctx<'a> {
@@ -738,7 +758,32 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
         }
     };
 
+    // [samples]
+    let mut extra_columns: Vec<String> = Vec::new();
+    if let Some(t) = &raw.samples {
+        let v = &t.get_ref().extra_columns;
+        for name in v.get_ref() {
+            let why = if name.trim().is_empty() || name.trim() != name || name.contains(',') {
+                Some("a column name: not empty, no commas, no spaces around it")
+            } else if SAMPLE_COLUMNS.contains(&name.as_str()) {
+                Some("a column the reader knows; it cannot be an extra column")
+            } else if extra_columns.contains(name) {
+                Some("named twice")
+            } else {
+                None
+            };
+            if let Some(why) = why {
+                return Err(ctx.err(
+                    v.span(),
+                    "samples.extra_columns",
+                    format!("`{}`: {why}", super::files::echo(name)),
+                ));
+            }
+            extra_columns.push(name.clone());
+        }
+    }
     Ok(ReviewConfig {
+        extra_columns,
         file: file.to_string(),
         sha256,
         labels,

@@ -193,12 +193,17 @@ impl<R: Read> SampleReader<R> {
                 }
                 "range" => range.replace(i).is_some(),
                 "temperature_c" => temperature.replace(i).is_some(),
+                // Declared in the configuration's [samples] extra_columns: not read.
+                other if config.extra_columns.iter().any(|c| c == other) => false,
                 other => {
                     return Err(ReviewError::input(
-                        place(header_line, col, Some(other)),
+                        place(header_line, col, Some(&echo(other))),
                         format!(
-                            "unknown column `{other}`: expected time_s or time_ticks, adc_code, \
-                             current_a or irradiance_w_per_m2, and optionally range, temperature_c"
+                            "unknown column `{}`: expected time_s or time_ticks, adc_code, \
+                             current_a or irradiance_w_per_m2, and optionally range, \
+                             temperature_c (declare other columns in the configuration's \
+                             [samples] extra_columns to have them ignored)",
+                            echo(other)
                         ),
                     ))
                 }

@@ -114,3 +114,36 @@ fn a_tolerance_of_zero_is_refused_with_the_reason() {
         assert!(e.contains("overexposure"), "{e}");
     }
 }
+
+/// Every sample of `csv` read with `config`, or the error's text.
+fn samples(config: &config::ReviewConfig, csv: &str) -> Result<Vec<String>, String> {
+    let mut r = photon_review::samples::SampleReader::new("s.csv", csv.as_bytes(), config)
+        .map_err(|e| e.to_string())?;
+    let mut out = Vec::new();
+    while let Some(s) = r.next_sample().map_err(|e| e.to_string())? {
+        out.push(format!("{:?}", s.reading));
+    }
+    Ok(out)
+}
+
+#[test]
+fn declared_extra_columns_are_accepted_and_not_read() {
+    let plain = "time_s,adc_code,range\n0.1,100,0\n0.2,120,0\n0.3,130,1\n";
+    let extra = "time_s,humidity_pct,adc_code,operator,range\n\
+                 0.1,40,100,a,0\n0.2,41,120,b,0\n0.3,x,130,c,1\n";
+    let undeclared = config::parse("c.toml", example().as_bytes()).unwrap();
+    let e = samples(&undeclared, extra).unwrap_err();
+    assert!(e.contains("unknown column `humidity_pct`"), "{e}");
+    assert!(e.contains("[samples] extra_columns"), "{e}");
+    let declared = example() + "\n[samples]\nextra_columns = [\"humidity_pct\", \"operator\"]\n";
+    let declared = config::parse("c.toml", declared.as_bytes()).unwrap();
+    let want = samples(&undeclared, plain).unwrap();
+    assert_eq!(want.len(), 3);
+    assert_eq!(samples(&declared, extra).unwrap(), want);
+    // A declared name that the reader knows, or named twice, is refused.
+    for bad in ["[\"range\"]", "[\"a\", \"a\"]", "[\"\"]"] {
+        let text = example() + &format!("\n[samples]\nextra_columns = {bad}\n");
+        let e = error_of(&text);
+        assert!(e.contains("(samples.extra_columns)"), "{bad}: {e}");
+    }
+}
