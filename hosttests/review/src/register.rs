@@ -559,6 +559,7 @@ pub fn report_summaries(paths: &[String]) -> Result<Vec<SessionSummary>, ReviewE
 pub struct Register {
     conn: Connection,
     path: String,
+    busy_timeout: Duration,
 }
 
 /// What `register check` found.
@@ -568,6 +569,15 @@ pub struct CheckReport {
     pub sessions: u64,
     /// Problems found (empty: the register is sound).
     pub problems: Vec<String>,
+}
+
+/// The rows of `PRAGMA pragma` other than `ok`.
+fn pragma_rows(conn: &Connection, pragma: &str) -> rusqlite::Result<Vec<String>> {
+    let mut stmt = conn.prepare(&format!("PRAGMA {pragma}"))?;
+    let rows: Vec<String> = stmt
+        .query_map([], |r| r.get(0))?
+        .collect::<Result<_, _>>()?;
+    Ok(rows.into_iter().filter(|r| r != "ok").collect())
 }
 
 fn is_busy(e: &rusqlite::Error) -> bool {
@@ -608,12 +618,22 @@ impl Register {
     /// SQLite errors, a damaged file, a file that is not a register, or another schema
     /// version.
     pub fn open(path: &str) -> Result<Self, ReviewError> {
+        Self::open_with_timeout(path, BUSY_TIMEOUT)
+    }
+
+    /// [`Register::open`], waiting up to `busy_timeout` (instead of [`BUSY_TIMEOUT`]) for
+    /// another process's lock at each attempt.
+    ///
+    /// # Errors
+    /// As [`Register::open`].
+    pub fn open_with_timeout(path: &str, busy_timeout: Duration) -> Result<Self, ReviewError> {
         let conn = Connection::open(path).map_err(|e| sqlite_error(path, "opening", &e))?;
-        conn.busy_timeout(BUSY_TIMEOUT)
+        conn.busy_timeout(busy_timeout)
             .map_err(|e| sqlite_error(path, "opening", &e))?;
         let mut r = Self {
             conn,
             path: path.to_string(),
+            busy_timeout,
         };
         r.quick_check()?;
         r.with_retries("creating the schema", |conn| {
@@ -659,6 +679,7 @@ impl Register {
         let r = Self {
             conn,
             path: path.to_string(),
+            busy_timeout: BUSY_TIMEOUT,
         };
         r.check_version()?;
         Ok(r)
@@ -693,9 +714,9 @@ impl Register {
         }
     }
 
-    /// `PRAGMA quick_check`: a damaged file is refused.
-    fn quick_check(&self) -> Result<(), ReviewError> {
-        let problems = self.pragma_check("quick_check")?;
+    /// `PRAGMA quick_check` (retried while busy): a damaged file is refused.
+    fn quick_check(&mut self) -> Result<(), ReviewError> {
+        let problems = self.with_retries("checking", |conn| pragma_rows(conn, "quick_check"))?;
         if problems.is_empty() {
             Ok(())
         } else {
@@ -704,16 +725,7 @@ impl Register {
     }
 
     fn pragma_check(&self, pragma: &str) -> Result<Vec<String>, ReviewError> {
-        let path = &self.path;
-        let mut stmt = self
-            .conn
-            .prepare(&format!("PRAGMA {pragma}"))
-            .map_err(|e| sqlite_error(path, "checking", &e))?;
-        let rows: Vec<String> = stmt
-            .query_map([], |r| r.get(0))
-            .and_then(|rows| rows.collect())
-            .map_err(|e| sqlite_error(path, "checking", &e))?;
-        Ok(rows.into_iter().filter(|r| r != "ok").collect())
+        pragma_rows(&self.conn, pragma).map_err(|e| sqlite_error(&self.path, "checking", &e))
     }
 
     /// The full check (`register check`): `PRAGMA integrity_check`, the schema version, and
@@ -795,7 +807,7 @@ impl Register {
                         "{}: busy: another process held the register for more than {} s, {} \
                          times ({what}); nothing was imported, try again",
                         self.path,
-                        BUSY_TIMEOUT.as_secs(),
+                        self.busy_timeout.as_secs_f64(),
                         BUSY_RETRIES + 1
                     )))
                 }

@@ -226,3 +226,51 @@ fn imported_values_are_validated_naming_file_and_field() {
     );
     assert!(o.status.success(), "{}", stderr(&o));
 }
+
+#[test]
+fn a_register_locked_by_another_process_is_retried_then_reported_busy() {
+    let d = tempfile::tempdir().unwrap();
+    let reports = reports(d.path(), 1);
+    let o = run(
+        d.path(),
+        &["register", "import", "--db", "reg.sqlite", &reports[0]],
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    let more = self::reports(d.path(), 2);
+    // Another writer holds the register (an exclusive transaction) for the whole import.
+    let holder = rusqlite::Connection::open(d.path().join("reg.sqlite")).unwrap();
+    holder.execute_batch("BEGIN EXCLUSIVE").unwrap();
+    let t0 = std::time::Instant::now();
+    let o = run(
+        d.path(),
+        &[
+            "register",
+            "import",
+            "--db",
+            "reg.sqlite",
+            &more[1],
+            "--busy-timeout",
+            "0.1",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(1), "{}", stderr(&o));
+    let e = stderr(&o);
+    assert!(e.contains("busy") && e.contains("try again"), "{e}");
+    assert!(e.contains("nothing was imported"), "{e}");
+    // 4 attempts of 0.1 s and short pauses: well under the 10 s default.
+    assert!(
+        t0.elapsed() < std::time::Duration::from_secs(8),
+        "{:?}",
+        t0.elapsed()
+    );
+    holder.execute_batch("ROLLBACK").unwrap();
+    drop(holder);
+    assert_eq!(count_rows(&d.path().join("reg.sqlite")), (1, 1));
+    // Once the lock is gone the same import succeeds.
+    let o = run(
+        d.path(),
+        &["register", "import", "--db", "reg.sqlite", &more[1]],
+    );
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert_eq!(count_rows(&d.path().join("reg.sqlite")), (2, 2));
+}

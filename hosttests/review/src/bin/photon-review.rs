@@ -12,6 +12,7 @@
 
 use std::io::Write;
 use std::process::ExitCode;
+use std::time::Duration;
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use photon_review::decode::{self, Geometry, RetentionPolicy};
@@ -65,6 +66,14 @@ enum DecodePrint {
 enum RetentionArg {
     Ring,
     KeepAll,
+}
+
+/// Seconds: finite, 0 to one hour.
+fn parse_seconds(s: &str) -> Result<f64, String> {
+    match s.trim().parse::<f64>() {
+        Ok(v) if v.is_finite() && (0.0..=3600.0).contains(&v) => Ok(v),
+        _ => Err(format!("`{s}` is not a number of seconds from 0 to 3600")),
+    }
 }
 
 /// A `u32` in decimal or with a `0x` prefix in hex.
@@ -262,6 +271,9 @@ enum RegisterAction {
         reactor_id: Option<String>,
         #[command(flatten)]
         geometry: GeometryArgs,
+        /// Seconds to wait for another process's lock on the register (each of 4 attempts).
+        #[arg(long, value_parser = parse_seconds, default_value = "10")]
+        busy_timeout: f64,
     },
     /// Dose per device, person or reactor per UTC day.
     DosePerDay {
@@ -590,6 +602,7 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                 person_id,
                 reactor_id,
                 geometry,
+                busy_timeout,
             } => {
                 // The register is never one of the inputs.
                 let inputs: Vec<&str> = reports.iter().chain(&image).map(String::as_str).collect();
@@ -616,7 +629,8 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                 for s in &summaries {
                     s.validate()?;
                 }
-                let mut r = Register::open(&db)?;
+                let mut r =
+                    Register::open_with_timeout(&db, Duration::from_secs_f64(busy_timeout))?;
                 let stats = r.import(&summaries)?;
                 for m in &skipped {
                     out.say(&format!("{m}\n"))?;
