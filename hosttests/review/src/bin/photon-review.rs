@@ -344,6 +344,9 @@ impl Out {
     }
 }
 
+/// Set once an import has been committed (for the message after a later error).
+static IMPORTED: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
+
 /// How a command that ran to the end came out.
 enum Done {
     /// Nothing to report.
@@ -632,6 +635,7 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                 let mut r =
                     Register::open_with_timeout(&db, Duration::from_secs_f64(busy_timeout))?;
                 let stats = r.import(&summaries)?;
+                IMPORTED.store(true, std::sync::atomic::Ordering::SeqCst);
                 for m in &skipped {
                     out.say(&format!("{m}\n"))?;
                 }
@@ -776,7 +780,9 @@ fn main() -> ExitCode {
         Err(e) => {
             eprintln!("photon-review: error: {e}");
             let written = photon_review::files::written();
-            if written.is_empty() {
+            if importing {
+                // The register is changed in place, never through a file written here.
+            } else if written.is_empty() {
                 eprintln!("photon-review: no file was written");
             } else {
                 eprintln!(
@@ -785,7 +791,11 @@ fn main() -> ExitCode {
                 );
             }
             if importing {
-                eprintln!("photon-review: nothing was imported");
+                if IMPORTED.load(std::sync::atomic::Ordering::SeqCst) {
+                    eprintln!("photon-review: the import was committed before the error");
+                } else {
+                    eprintln!("photon-review: nothing was imported");
+                }
             }
             ExitCode::FAILURE
         }
