@@ -1,6 +1,7 @@
 //! Stable fuzz harnesses (proptest-driven): the calibration-record decoder, the journal mount
-//! and export on arbitrary and mutated flash images, the configuration builders on hostile
-//! numbers, and the review tool's TOML and CSV readers on arbitrary and mutated text.
+//! and export on arbitrary and mutated flash images, and the configuration builders on hostile
+//! numbers. (The review tool's TOML and CSV readers are fuzzed in `photon-review`'s
+//! `tests/fuzz_readers.rs`.)
 //!
 //! The default run is a short smoke run (a few hundred cases per target, part of
 //! `cargo test --workspace`). A longer campaign sets the number of cases per target:
@@ -17,14 +18,11 @@ use std::sync::atomic::{AtomicU64, Ordering};
 
 use hosttests::fixtures::round_meter;
 use hosttests::flash::SimFlash;
-use hosttests::review::config::{self as review_config, ReviewConfig};
-use hosttests::review::samples::SampleReader;
 use photon_ledger::acquire::autorange::{AutorangeConfigError, AutorangeError};
 use photon_ledger::control::plausibility::{
     Plausibility, PlausibilityConfig, PlausibilityConfigError,
 };
-use photon_ledger::control::session::SessionConfigError;
-use photon_ledger::control::session::SessionError;
+use photon_ledger::control::session::{SessionConfigError, SessionError};
 use photon_ledger::frontend::FrontEndError;
 use photon_ledger::irradiance::calibration::{
     self, accept, check, AcceptError, CalibrationRecord, CalibrationSource, Check, Day,
@@ -859,99 +857,6 @@ fn fuzz_curing_and_reactor_builders() {
                 }
             }
             Err(e) => prop_assert!(!e.to_string().is_empty()),
-        }
-        Ok(())
-    });
-}
-
-// ---------------------------------------------------------------------------------------
-// (d) Review tool readers.
-// ---------------------------------------------------------------------------------------
-
-const EXAMPLE_TOML: &str = include_str!("../review/examples/photoreactor.toml");
-const EXAMPLE_CSV: &str = include_str!("../review/examples/photoreactor.csv");
-
-fn example_config() -> ReviewConfig {
-    review_config::parse("photoreactor.toml", EXAMPLE_TOML.as_bytes()).unwrap()
-}
-
-fn mutate_text(base: &str, edits: &[(usize, usize, String)]) -> Vec<u8> {
-    let mut b = base.as_bytes().to_vec();
-    for (at, del, ins) in edits {
-        let at = at % (b.len() + 1);
-        let end = (at + del).min(b.len());
-        b.splice(at..end, ins.bytes());
-    }
-    b
-}
-
-fn edits() -> impl Strategy<Value = Vec<(usize, usize, String)>> {
-    proptest::collection::vec(
-        (
-            any::<usize>(),
-            0usize..12,
-            prop_oneof![
-                "[ -~]{0,6}",
-                Just("nan".to_string()),
-                Just("-1e999".to_string()),
-                Just("\n".to_string()),
-                Just("=".to_string()),
-                Just(",".to_string()),
-                Just("[[ranges]]\n".to_string()),
-                "\\PC{0,3}",
-            ],
-        ),
-        1..6,
-    )
-}
-
-fn review_error_named(
-    e: &hosttests::review::error::ReviewError,
-    file: &str,
-) -> Result<(), TestCaseError> {
-    let place = e
-        .place()
-        .ok_or_else(|| TestCaseError::fail(format!("error without a place: {e}")))?;
-    prop_assert_eq!(place.file.as_str(), file);
-    prop_assert!(e.to_string().contains(file), "{}", e);
-    Ok(())
-}
-
-#[test]
-fn fuzz_review_toml_reader() {
-    let s = prop_oneof![
-        proptest::collection::vec(any::<u8>(), 0..300),
-        edits().prop_map(|e| mutate_text(EXAMPLE_TOML, &e)),
-    ];
-    fuzz("review/toml", 1000, s, |bytes| {
-        match review_config::parse("fuzz.toml", &bytes) {
-            Ok(_) => {}
-            Err(e) => review_error_named(&e, "fuzz.toml")?,
-        }
-        Ok(())
-    });
-}
-
-#[test]
-fn fuzz_review_csv_reader() {
-    let config = example_config();
-    let s = prop_oneof![
-        proptest::collection::vec(any::<u8>(), 0..300),
-        edits().prop_map(|e| mutate_text(&EXAMPLE_CSV[..EXAMPLE_CSV.len().min(600)], &e)),
-    ];
-    fuzz("review/csv", 1000, s, |bytes| {
-        let mut reader = match SampleReader::new("fuzz.csv", bytes.as_slice(), &config) {
-            Ok(r) => r,
-            Err(e) => return review_error_named(&e, "fuzz.csv"),
-        };
-        let mut n = 0u64;
-        loop {
-            match reader.next_sample() {
-                Ok(Some(_)) => n += 1,
-                Ok(None) => break,
-                Err(e) => return review_error_named(&e, "fuzz.csv"),
-            }
-            prop_assert!(n <= 1000, "reader does not end");
         }
         Ok(())
     });

@@ -29,6 +29,7 @@ use photon_ledger::prelude::*;
 
 use super::config::ReviewConfig;
 use super::error::{Place, ReviewError};
+use super::files::{echo, LineLimit, MAX_LINE_BYTES};
 
 /// What the time column holds.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -94,7 +95,7 @@ struct Conversion {
 
 /// Reads samples from a CSV file. See the [module documentation](self).
 pub struct SampleReader<R: Read> {
-    rdr: csv::Reader<R>,
+    rdr: csv::Reader<LineLimit<R>>,
     record: csv::ByteRecord,
     file: String,
     cols: Columns,
@@ -148,7 +149,7 @@ impl<R: Read> SampleReader<R> {
             .flexible(false)
             .comment(Some(b'#'))
             .buffer_capacity(1 << 16)
-            .from_reader(input);
+            .from_reader(LineLimit::new(input, MAX_LINE_BYTES));
         let place = |line: u64, column: Option<u64>, field: Option<&str>| Place {
             file: file.to_string(),
             line: Some(line),
@@ -192,12 +193,17 @@ impl<R: Read> SampleReader<R> {
                 }
                 "range" => range.replace(i).is_some(),
                 "temperature_c" => temperature.replace(i).is_some(),
+                // Declared in the configuration's [samples] extra_columns: not read.
+                other if config.extra_columns.iter().any(|c| c == other) => false,
                 other => {
                     return Err(ReviewError::input(
-                        place(header_line, col, Some(other)),
+                        place(header_line, col, Some(&echo(other))),
                         format!(
-                            "unknown column `{other}`: expected time_s or time_ticks, adc_code, \
-                             current_a or irradiance_w_per_m2, and optionally range, temperature_c"
+                            "unknown column `{}`: expected time_s or time_ticks, adc_code, \
+                             current_a or irradiance_w_per_m2, and optionally range, \
+                             temperature_c (declare other columns in the configuration's \
+                             [samples] extra_columns to have them ignored)",
+                            echo(other)
                         ),
                     ))
                 }
@@ -272,7 +278,7 @@ impl<R: Read> SampleReader<R> {
 
     /// The underlying reader (everything up to the last record has been read from it).
     pub fn into_inner(self) -> R {
-        self.rdr.into_inner()
+        self.rdr.into_inner().into_inner()
     }
 
     /// The time unit of the file.
@@ -327,8 +333,12 @@ impl<R: Read> SampleReader<R> {
         let s = self.text(line, i)?;
         match s.parse::<f64>() {
             Ok(v) if v.is_finite() => Ok(v),
-            Ok(v) => Err(self.bad(line, i, format!("`{s}` ({v}) is not a finite number"))),
-            Err(_) => Err(self.bad(line, i, format!("`{s}` is not a number"))),
+            Ok(v) => Err(self.bad(
+                line,
+                i,
+                format!("`{}` ({v}) is not a finite number", echo(s)),
+            )),
+            Err(_) => Err(self.bad(line, i, format!("`{}` is not a number", echo(s)))),
         }
     }
 
@@ -338,7 +348,7 @@ impl<R: Read> SampleReader<R> {
             Some(v) => Ok(v),
             None => {
                 let s = self.text(line, i)?;
-                Err(self.bad(line, i, format!("`{s}` is not an integer")))
+                Err(self.bad(line, i, format!("`{}` is not an integer", echo(s))))
             }
         }
     }

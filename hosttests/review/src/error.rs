@@ -48,6 +48,8 @@ pub enum ReviewError {
     Register(String),
     /// Anything else (a plot that could not be drawn, a bad command-line value).
     Other(String),
+    /// Standard output could not be written (a full disk, a closed pipe).
+    Stdout(std::io::Error),
 }
 
 impl ReviewError {
@@ -107,6 +109,7 @@ impl fmt::Display for ReviewError {
             Self::Io { file, source } => write!(f, "{file}: {source}"),
             Self::Register(m) => write!(f, "exposure register: {m}"),
             Self::Other(m) => f.write_str(m),
+            Self::Stdout(e) => write!(f, "writing standard output: {e}"),
         }
     }
 }

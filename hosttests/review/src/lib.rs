@@ -12,6 +12,7 @@
 //! | [`decode`] | a raw flash image of the journal → records (CSV, JSON) and a session summary |
 //! | [`demo_image`] | a demonstration flash image written by the real journal on the simulated flash |
 //! | [`register`] | the exposure register (SQLite): import sessions, answer questions |
+//! | [`files`] | bounded reads of inputs; outputs checked against inputs, written atomically |
 //!
 //! Every configuration key and report key, with its unit, is documented in
 //! `hosttests/review/CONFIG.md`.
@@ -21,6 +22,7 @@ pub mod decode;
 pub mod demo_image;
 pub mod error;
 pub mod explain;
+pub mod files;
 pub mod monitor;
 pub mod plot;
 pub mod register;
@@ -31,3 +33,10 @@ pub mod simulate;
 pub mod time;
 
 pub use error::{Place, ReviewError};
+
+/// This tool's name and version, as reports name it (`photon-review 0.1.0`).
+pub const TOOL: &str = concat!("photon-review ", env!("CARGO_PKG_VERSION"));
+
+/// The photon-ledger library this tool is built with, as reports name it
+/// (`photon-ledger 0.1.0`): the pipeline and journal code every result comes from.
+pub const LIBRARY: &str = concat!("photon-ledger ", env!("PHOTON_LEDGER_VERSION"));

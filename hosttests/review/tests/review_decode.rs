@@ -15,12 +15,6 @@ use std::process::{Command, Output};
 use embedded_storage::nor_flash::NorFlash;
 use hosttests::flash::SimFlash;
 use hosttests::image::image_to_csv;
-use hosttests::review::decode::{
-    decode_image, Decoded, Geometry, ImageFlash, ImageFlashError, RecordReport,
-};
-use hosttests::review::demo_image::{demo_journal, DemoFlash, DEMO_DEVICE_ID, DEMO_EPOCH_UTC};
-use hosttests::review::register::{Grouping, Register};
-use hosttests::review::ReviewError;
 use photon_ledger::acquire::reading::Ticks;
 use photon_ledger::journal::export::export_csv;
 use photon_ledger::journal::record::{
@@ -29,6 +23,12 @@ use photon_ledger::journal::record::{
     StoredWavelength,
 };
 use photon_ledger::journal::{Journal, JournalConfig, Retention};
+use photon_review::decode::{
+    decode_image, Decoded, Geometry, ImageFlash, ImageFlashError, RecordReport,
+};
+use photon_review::demo_image::{demo_journal, DemoFlash, DEMO_DEVICE_ID, DEMO_EPOCH_UTC};
+use photon_review::register::{Grouping, Register};
+use photon_review::ReviewError;
 
 const BIN: &str = env!("CARGO_BIN_EXE_photon-review");
 
@@ -52,7 +52,7 @@ fn s(p: &Path) -> &str {
 }
 
 fn example_image() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("review/examples/journal.bin")
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/journal.bin")
 }
 
 fn decode(image: &[u8]) -> Result<Decoded, ReviewError> {
@@ -682,7 +682,7 @@ fn cli_refuses(image: &[u8], extra: &[&str], needles: &[&str]) {
     for n in needles {
         assert!(err.contains(n), "{n}: {err}");
     }
-    assert!(err.contains("nothing was decoded or written"), "{err}");
+    assert!(err.contains("no file was written"), "{err}");
     assert!(stdout(&o).is_empty(), "{}", stdout(&o));
     assert!(!json.exists() && !csv.exists());
     assert_eq!(

@@ -34,8 +34,23 @@
 //! See [`SCHEMA`]; one row per session in table `session`, the schema version in `meta`.
 //! Days are UTC days of the session's start (a session across midnight counts on the day it
 //! started).
+//!
+//! # Integrity
+//!
+//! - The schema is created inside one `BEGIN IMMEDIATE` transaction (`CREATE ... IF NOT
+//!   EXISTS`), so imports that race on a fresh file all succeed; every connection waits up to
+//!   [`BUSY_TIMEOUT`] for a lock, and a write still refused as busy is retried
+//!   [`BUSY_RETRIES`] times, then reported as busy (nothing imported).
+//! - Queries open the file read-only and never create it: a missing register is an error.
+//! - An import runs `PRAGMA quick_check` first and refuses a damaged file; `register check`
+//!   runs the full `PRAGMA integrity_check` and checks the stored values.
+//! - Every imported value is validated ([`SessionSummary::validate`]): doses, durations and
+//!   areas finite and not negative, targets and limits finite and positive, the start between
+//!   [`EARLIEST_START_UTC`] and [`LATEST_START_UTC`]; an error names the file and the field.
 
-use rusqlite::{params, Connection, OptionalExtension};
+use std::time::Duration;
+
+use rusqlite::{params, Connection, ErrorCode, OpenFlags, OptionalExtension, TransactionBehavior};
 use serde::Serialize;
 
 use photon_ledger::journal::export::fault_name;
@@ -45,6 +60,18 @@ use super::decode::{decode_file, Geometry, SessionReport};
 use super::error::ReviewError;
 use super::report::{Report, REPORT_FORMAT, REPORT_VERSION};
 use super::time::{format_utc, parse_utc, utc_day};
+
+/// How long a connection waits for another process's lock before SQLite reports it busy.
+pub const BUSY_TIMEOUT: Duration = Duration::from_secs(10);
+
+/// How many more times a write refused as busy after [`BUSY_TIMEOUT`] is tried.
+pub const BUSY_RETRIES: u32 = 3;
+
+/// Earliest start accepted (a date before it is a device clock that was never set).
+pub const EARLIEST_START_UTC: &str = "1990-01-01T00:00:00Z";
+
+/// Latest start accepted.
+pub const LATEST_START_UTC: &str = "2100-01-01T00:00:00Z";
 
 /// Version of the register's schema (table `meta`, key `schema_version`).
 pub const SCHEMA_VERSION: i64 = 1;
@@ -145,6 +172,100 @@ pub struct SessionSummary {
 }
 
 impl SessionSummary {
+    /// Check every value before it enters the register: doses, durations and amounts finite
+    /// and not negative; target and limit finite and positive; the start a UTC time between
+    /// [`EARLIEST_START_UTC`] and [`LATEST_START_UTC`]; a 64-digit hex content key.
+    ///
+    /// # Errors
+    /// The first bad value, naming the source file and the field.
+    pub fn validate(&self) -> Result<(), ReviewError> {
+        let bad = |field: &str, why: String| {
+            ReviewError::input(
+                super::error::Place {
+                    file: self.source_name.clone(),
+                    field: Some(field.to_string()),
+                    ..Default::default()
+                },
+                format!("{why}; nothing was imported"),
+            )
+        };
+        let non_negative = |field: &str, v: f64| {
+            if v.is_finite() && v >= 0.0 {
+                Ok(())
+            } else {
+                Err(bad(field, format!("{v} is not a finite value ≥ 0")))
+            }
+        };
+        let positive = |field: &str, v: f64| {
+            if v.is_finite() && v > 0.0 {
+                Ok(())
+            } else {
+                Err(bad(field, format!("{v} is not a finite value > 0")))
+            }
+        };
+        if self.content_sha256.len() != 64
+            || !self.content_sha256.bytes().all(|b| b.is_ascii_hexdigit())
+        {
+            return Err(bad(
+                "session_sha256",
+                format!(
+                    "`{}` is not a SHA-256 in hex",
+                    super::files::echo(&self.content_sha256)
+                ),
+            ));
+        }
+        let start = parse_utc(&self.start_utc).ok_or_else(|| {
+            bad(
+                "start_utc",
+                format!(
+                    "`{}` is not a UTC time",
+                    super::files::echo(&self.start_utc)
+                ),
+            )
+        })?;
+        let (lo, hi) = (
+            parse_utc(EARLIEST_START_UTC).unwrap_or(0.0),
+            parse_utc(LATEST_START_UTC).unwrap_or(f64::MAX),
+        );
+        if !(lo..hi).contains(&start) {
+            return Err(bad(
+                "start_utc",
+                format!(
+                    "{} is outside {EARLIEST_START_UTC} .. {LATEST_START_UTC} (a device clock \
+                     or --epoch-utc that was never set?)",
+                    self.start_utc
+                ),
+            ));
+        }
+        non_negative("duration_s", self.duration_s)?;
+        non_negative("radiant_exposure_j_per_m2", self.radiant_exposure_j_per_m2)?;
+        non_negative(
+            "photon_exposure_mol_per_m2",
+            self.photon_exposure_mol_per_m2,
+        )?;
+        for (field, v) in [
+            ("photons_mol", self.photons_mol),
+            (
+                "effective_exposure_j_per_m2",
+                self.effective_exposure_j_per_m2,
+            ),
+            ("erythemal_exposure_sed", self.erythemal_exposure_sed),
+        ] {
+            if let Some(v) = v {
+                non_negative(field, v)?;
+            }
+        }
+        for (field, v) in [
+            ("target_j_per_m2", self.target_j_per_m2),
+            ("exposure_limit_j_per_m2", self.exposure_limit_j_per_m2),
+        ] {
+            if let Some(v) = v {
+                positive(field, v)?;
+            }
+        }
+        Ok(())
+    }
+
     /// The summary of a replay report.
     ///
     /// # Errors
@@ -391,6 +512,9 @@ pub struct LimitDay {
     pub reason: String,
 }
 
+/// Largest replay report read, bytes (a report with 10 000 events is a few megabytes).
+pub const MAX_REPORT_BYTES: u64 = 256 << 20;
+
 /// Read and check replay report files (JSON) into summaries, all before anything is
 /// imported.
 ///
@@ -400,7 +524,19 @@ pub struct LimitDay {
 pub fn report_summaries(paths: &[String]) -> Result<Vec<SessionSummary>, ReviewError> {
     let mut summaries = Vec::with_capacity(paths.len());
     for p in paths {
-        let text = std::fs::read_to_string(p).map_err(|e| ReviewError::io(p, e))?;
+        let bytes = super::files::read_limited(p, MAX_REPORT_BYTES, "replay report")?;
+        let text = String::from_utf8(bytes).map_err(|e| {
+            ReviewError::input(
+                super::error::Place {
+                    file: p.clone(),
+                    ..Default::default()
+                },
+                format!(
+                    "not UTF-8 text (byte {}): not a replay report",
+                    e.utf8_error().valid_up_to()
+                ),
+            )
+        })?;
         let report: Report = serde_json::from_str(&text).map_err(|e| {
             ReviewError::input(
                 super::error::Place {
@@ -412,7 +548,9 @@ pub fn report_summaries(paths: &[String]) -> Result<Vec<SessionSummary>, ReviewE
                 format!("not a photon-review report: {e}"),
             )
         })?;
-        summaries.push(SessionSummary::from_report(&report, p)?);
+        let summary = SessionSummary::from_report(&report, p)?;
+        summary.validate()?;
+        summaries.push(summary);
     }
     Ok(summaries)
 }
@@ -420,39 +558,262 @@ pub fn report_summaries(paths: &[String]) -> Result<Vec<SessionSummary>, ReviewE
 /// An open register file.
 pub struct Register {
     conn: Connection,
+    path: String,
+    busy_timeout: Duration,
+}
+
+/// What `register check` found.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CheckReport {
+    /// Sessions in the register (0 when there are problems).
+    pub sessions: u64,
+    /// Problems found (empty: the register is sound).
+    pub problems: Vec<String>,
+}
+
+/// The rows of `PRAGMA pragma` other than `ok`.
+fn pragma_rows(conn: &Connection, pragma: &str) -> rusqlite::Result<Vec<String>> {
+    let mut stmt = conn.prepare(&format!("PRAGMA {pragma}"))?;
+    let rows: Vec<String> = stmt
+        .query_map([], |r| r.get(0))?
+        .collect::<Result<_, _>>()?;
+    Ok(rows.into_iter().filter(|r| r != "ok").collect())
+}
+
+fn is_busy(e: &rusqlite::Error) -> bool {
+    matches!(
+        e.sqlite_error_code(),
+        Some(ErrorCode::DatabaseBusy | ErrorCode::DatabaseLocked)
+    )
+}
+
+fn damaged(path: &str, problems: &[String]) -> ReviewError {
+    let shown: Vec<&str> = problems.iter().take(5).map(String::as_str).collect();
+    ReviewError::Register(format!(
+        "{path}: the register is damaged ({}{}); nothing was changed: restore it from a backup",
+        shown.join("; "),
+        if problems.len() > shown.len() {
+            format!("; {} more", problems.len() - shown.len())
+        } else {
+            String::new()
+        }
+    ))
+}
+
+fn sqlite_error(path: &str, what: &str, e: &rusqlite::Error) -> ReviewError {
+    match e.sqlite_error_code() {
+        Some(ErrorCode::NotADatabase) => ReviewError::Register(format!(
+            "{path}: not an SQLite file ({what}: {e}); nothing was changed"
+        )),
+        Some(ErrorCode::DatabaseCorrupt) => damaged(path, &[e.to_string()]),
+        _ => ReviewError::Register(format!("{path}: {what}: {e}")),
+    }
 }
 
 impl Register {
-    /// Open (creating if needed) the register at `path`.
+    /// Open (creating if needed) the register at `path` for an import: the schema is created
+    /// in one immediate transaction, and the file must pass `PRAGMA quick_check`.
     ///
     /// # Errors
-    /// SQLite errors, or a file with another schema version.
+    /// SQLite errors, a damaged file, a file that is not a register, or another schema
+    /// version.
     pub fn open(path: &str) -> Result<Self, ReviewError> {
-        let conn =
-            Connection::open(path).map_err(|e| ReviewError::Register(format!("{path}: {e}")))?;
-        conn.execute_batch(SCHEMA)?;
-        let v: Option<String> = conn
+        Self::open_with_timeout(path, BUSY_TIMEOUT)
+    }
+
+    /// [`Register::open`], waiting up to `busy_timeout` (instead of [`BUSY_TIMEOUT`]) for
+    /// another process's lock at each attempt.
+    ///
+    /// # Errors
+    /// As [`Register::open`].
+    pub fn open_with_timeout(path: &str, busy_timeout: Duration) -> Result<Self, ReviewError> {
+        let conn = Connection::open(path).map_err(|e| sqlite_error(path, "opening", &e))?;
+        conn.busy_timeout(busy_timeout)
+            .map_err(|e| sqlite_error(path, "opening", &e))?;
+        let mut r = Self {
+            conn,
+            path: path.to_string(),
+            busy_timeout,
+        };
+        r.quick_check()?;
+        r.with_retries("creating the schema", |conn| {
+            let tx = conn.transaction_with_behavior(TransactionBehavior::Immediate)?;
+            tx.execute_batch(SCHEMA)?;
+            let v: Option<String> = tx
+                .query_row(
+                    "SELECT value FROM meta WHERE key = 'schema_version'",
+                    [],
+                    |r| r.get(0),
+                )
+                .optional()?;
+            if v.is_none() {
+                tx.execute(
+                    "INSERT INTO meta (key, value) VALUES ('schema_version', ?1)",
+                    params![SCHEMA_VERSION.to_string()],
+                )?;
+            }
+            tx.commit()
+        })?;
+        r.check_version()?;
+        Ok(r)
+    }
+
+    /// Open an existing register read-only, for queries and `check`: a missing file is an
+    /// error, never a new empty register.
+    ///
+    /// # Errors
+    /// A missing file, a file that is not a register, or another schema version.
+    pub fn open_existing(path: &str) -> Result<Self, ReviewError> {
+        if let Err(e) = std::fs::metadata(path) {
+            return Err(ReviewError::Register(format!(
+                "{path}: {e}; a query never creates a register (`register import` does)"
+            )));
+        }
+        let conn = Connection::open_with_flags(
+            path,
+            OpenFlags::SQLITE_OPEN_READ_ONLY | OpenFlags::SQLITE_OPEN_NO_MUTEX,
+        )
+        .map_err(|e| sqlite_error(path, "opening", &e))?;
+        conn.busy_timeout(BUSY_TIMEOUT)
+            .map_err(|e| sqlite_error(path, "opening", &e))?;
+        let r = Self {
+            conn,
+            path: path.to_string(),
+            busy_timeout: BUSY_TIMEOUT,
+        };
+        r.check_version()?;
+        Ok(r)
+    }
+
+    fn check_version(&self) -> Result<(), ReviewError> {
+        let path = &self.path;
+        let v: Option<String> = self
+            .conn
             .query_row(
                 "SELECT value FROM meta WHERE key = 'schema_version'",
                 [],
                 |r| r.get(0),
             )
-            .optional()?;
+            .optional()
+            .map_err(|e| match e.sqlite_error_code() {
+                Some(ErrorCode::NotADatabase | ErrorCode::DatabaseCorrupt) => {
+                    sqlite_error(path, "reading", &e)
+                }
+                _ => ReviewError::Register(format!(
+                    "{path}: not a photon-review register (no schema version: {e})"
+                )),
+            })?;
         match v {
-            None => {
-                conn.execute(
-                    "INSERT INTO meta (key, value) VALUES ('schema_version', ?1)",
-                    params![SCHEMA_VERSION.to_string()],
-                )?;
-            }
-            Some(v) if v == SCHEMA_VERSION.to_string() => {}
-            Some(v) => {
-                return Err(ReviewError::Register(format!(
-                    "{path}: schema version {v}, this tool uses {SCHEMA_VERSION}"
-                )))
+            Some(v) if v == SCHEMA_VERSION.to_string() => Ok(()),
+            Some(v) => Err(ReviewError::Register(format!(
+                "{path}: schema version {v}, this tool uses {SCHEMA_VERSION}"
+            ))),
+            None => Err(ReviewError::Register(format!(
+                "{path}: not a photon-review register (no schema version)"
+            ))),
+        }
+    }
+
+    /// `PRAGMA quick_check` (retried while busy): a damaged file is refused.
+    fn quick_check(&mut self) -> Result<(), ReviewError> {
+        let problems = self.with_retries("checking", |conn| pragma_rows(conn, "quick_check"))?;
+        if problems.is_empty() {
+            Ok(())
+        } else {
+            Err(damaged(&self.path, &problems))
+        }
+    }
+
+    fn pragma_check(&self, pragma: &str) -> Result<Vec<String>, ReviewError> {
+        pragma_rows(&self.conn, pragma).map_err(|e| sqlite_error(&self.path, "checking", &e))
+    }
+
+    /// The full check (`register check`): `PRAGMA integrity_check`, the schema version, and
+    /// every stored value against [`SessionSummary::validate`]'s ranges.
+    ///
+    /// # Errors
+    /// A damaged file, or SQLite errors.
+    pub fn check(&self) -> Result<CheckReport, ReviewError> {
+        let mut problems = self.pragma_check("integrity_check")?;
+        if problems.is_empty() {
+            let mut stmt = self.conn.prepare(
+                "SELECT id, source_name, start_utc, duration_s, radiant_exposure_j_per_m2,
+                        photon_exposure_mol_per_m2, photons_mol, effective_exposure_j_per_m2,
+                        erythemal_exposure_sed, target_j_per_m2, exposure_limit_j_per_m2
+                 FROM session ORDER BY id",
+            )?;
+            let rows = stmt.query_map([], |r| {
+                let id: i64 = r.get(0)?;
+                let name: String = r.get(1)?;
+                let start: String = r.get(2)?;
+                let mut bad = Vec::new();
+                for (i, field) in [
+                    (3, "duration_s"),
+                    (4, "radiant_exposure_j_per_m2"),
+                    (5, "photon_exposure_mol_per_m2"),
+                    (6, "photons_mol"),
+                    (7, "effective_exposure_j_per_m2"),
+                    (8, "erythemal_exposure_sed"),
+                ] {
+                    if let Some(v) = r.get::<_, Option<f64>>(i)? {
+                        if !(v.is_finite() && v >= 0.0) {
+                            bad.push(format!("session {id} ({name}): {field} = {v}"));
+                        }
+                    }
+                }
+                for (i, field) in [(9, "target_j_per_m2"), (10, "exposure_limit_j_per_m2")] {
+                    if let Some(v) = r.get::<_, Option<f64>>(i)? {
+                        if !(v.is_finite() && v > 0.0) {
+                            bad.push(format!("session {id} ({name}): {field} = {v}"));
+                        }
+                    }
+                }
+                if parse_utc(&start).is_none() {
+                    bad.push(format!("session {id} ({name}): start_utc = `{start}`"));
+                }
+                Ok(bad)
+            })?;
+            for row in rows {
+                problems.extend(row?);
             }
         }
-        Ok(Self { conn })
+        Ok(CheckReport {
+            sessions: if problems.is_empty() {
+                self.session_count()?
+            } else {
+                0
+            },
+            problems,
+        })
+    }
+
+    /// Run a write `op`, retrying it [`BUSY_RETRIES`] times while SQLite reports the file busy
+    /// or locked (each attempt already waited [`BUSY_TIMEOUT`]).
+    fn with_retries<T>(
+        &mut self,
+        what: &str,
+        mut op: impl FnMut(&mut Connection) -> rusqlite::Result<T>,
+    ) -> Result<T, ReviewError> {
+        let mut attempt = 0;
+        loop {
+            match op(&mut self.conn) {
+                Ok(v) => return Ok(v),
+                Err(e) if is_busy(&e) && attempt < BUSY_RETRIES => {
+                    attempt += 1;
+                    std::thread::sleep(Duration::from_millis(50 * u64::from(attempt)));
+                }
+                Err(e) if is_busy(&e) => {
+                    return Err(ReviewError::Register(format!(
+                        "{}: busy: another process held the register for more than {} s, {} \
+                         times ({what}); nothing was imported, try again",
+                        self.path,
+                        self.busy_timeout.as_secs_f64(),
+                        BUSY_RETRIES + 1
+                    )))
+                }
+                Err(e) => return Err(sqlite_error(&self.path, what, &e)),
+            }
+        }
     }
 
     /// Import sessions; those already present (same content hash) are skipped. All or
@@ -463,61 +824,63 @@ impl Register {
     /// # Errors
     /// SQLite errors, or a summary with a malformed start time (nothing is imported then).
     pub fn import(&mut self, sessions: &[SessionSummary]) -> Result<ImportStats, ReviewError> {
+        for s in sessions {
+            s.validate()?;
+        }
         let now = std::time::SystemTime::now()
             .duration_since(std::time::UNIX_EPOCH)
             .map_or(0.0, |d| d.as_secs_f64());
         let imported = format_utc(now);
-        let tx = self.conn.transaction()?;
-        let mut stats = ImportStats::default();
-        {
-            let mut stmt = tx.prepare(
-                "INSERT OR IGNORE INTO session (content_sha256, source_kind, source_name, device_id,
-                    person_id, reactor_id, start_utc, day_utc, duration_s, radiant_exposure_j_per_m2,
-                    photon_exposure_mol_per_m2, photons_mol, target_j_per_m2, target_reached,
-                    stop_reason, fault, effective_exposure_j_per_m2, exposure_limit_j_per_m2,
-                    limit_reached, erythemal_exposure_sed, imported_utc)
-                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, ?16,
-                    ?17, ?18, ?19, ?20, ?21)",
-            )?;
-            for s in sessions {
-                let start = parse_utc(&s.start_utc).ok_or_else(|| {
-                    ReviewError::Register(format!(
-                        "{}: start `{}` is not a UTC time",
-                        s.source_name, s.start_utc
-                    ))
-                })?;
-                let n = stmt.execute(params![
-                    s.content_sha256,
-                    s.source_kind.as_str(),
-                    s.source_name,
-                    s.device_id,
-                    s.person_id,
-                    s.reactor_id,
-                    format_utc(start),
-                    utc_day(start),
-                    s.duration_s,
-                    s.radiant_exposure_j_per_m2,
-                    s.photon_exposure_mol_per_m2,
-                    s.photons_mol,
-                    s.target_j_per_m2,
-                    s.target_reached,
-                    s.stop_reason,
-                    s.fault,
-                    s.effective_exposure_j_per_m2,
-                    s.exposure_limit_j_per_m2,
-                    s.limit_reached,
-                    s.erythemal_exposure_sed,
-                    imported,
-                ])?;
-                if n == 1 {
-                    stats.added += 1;
-                } else {
-                    stats.already_present += 1;
+        self.with_retries("importing", |conn| {
+            let tx = conn.transaction_with_behavior(TransactionBehavior::Immediate)?;
+            let mut stats = ImportStats::default();
+            {
+                let mut stmt = tx.prepare(
+                    "INSERT OR IGNORE INTO session (content_sha256, source_kind, source_name,
+                        device_id, person_id, reactor_id, start_utc, day_utc, duration_s,
+                        radiant_exposure_j_per_m2, photon_exposure_mol_per_m2, photons_mol,
+                        target_j_per_m2, target_reached, stop_reason, fault,
+                        effective_exposure_j_per_m2, exposure_limit_j_per_m2, limit_reached,
+                        erythemal_exposure_sed, imported_utc)
+                     VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15,
+                        ?16, ?17, ?18, ?19, ?20, ?21)",
+                )?;
+                for s in sessions {
+                    // Validated above: the start parses.
+                    let start = parse_utc(&s.start_utc).unwrap_or(0.0);
+                    let n = stmt.execute(params![
+                        s.content_sha256,
+                        s.source_kind.as_str(),
+                        s.source_name,
+                        s.device_id,
+                        s.person_id,
+                        s.reactor_id,
+                        format_utc(start),
+                        utc_day(start),
+                        s.duration_s,
+                        s.radiant_exposure_j_per_m2,
+                        s.photon_exposure_mol_per_m2,
+                        s.photons_mol,
+                        s.target_j_per_m2,
+                        s.target_reached,
+                        s.stop_reason,
+                        s.fault,
+                        s.effective_exposure_j_per_m2,
+                        s.exposure_limit_j_per_m2,
+                        s.limit_reached,
+                        s.erythemal_exposure_sed,
+                        imported,
+                    ])?;
+                    if n == 1 {
+                        stats.added += 1;
+                    } else {
+                        stats.already_present += 1;
+                    }
                 }
             }
-        }
-        tx.commit()?;
-        Ok(stats)
+            tx.commit()?;
+            Ok(stats)
+        })
     }
 
     /// Import replay report files (JSON). Every file is read and checked before anything is

@@ -1,6 +1,6 @@
 //! A demonstration flash image of the session journal, written as a device would write it:
 //! the library's `Session`, `Autorange`, `Checkpointer` and `Journal` on the simulated NOR
-//! flash ([`crate::flash::SimFlash`]), fed by the simulation models of the
+//! flash ([`hosttests::flash::SimFlash`]), fed by the simulation models of the
 //! `led-photoreactor` scenario. All values are invented for demonstration.
 //!
 //! The device powers on at tick 0 (1 kHz ticks) and runs three sessions:
@@ -19,7 +19,8 @@
 
 use photon_ledger::journal::checkpoint::{full_scale_irradiance, CheckpointConfig, Checkpointer};
 use photon_ledger::journal::record::{
-    Body, CalibrationId, EventCode, FaultCode, Record, SessionId, SessionOutcome, WarningCode,
+    Body, CalibrationId, EventCode, FaultCode, Record, SessionId, SessionOutcome, SessionStart,
+    WarningCode,
 };
 use photon_ledger::journal::{Journal, JournalConfig, JournalError, Retention};
 use photon_ledger::prelude::*;
@@ -29,8 +30,8 @@ use super::decode::Geometry;
 use super::error::ReviewError;
 use super::monitor::Unwired;
 use super::simulate::{photoreactor_sensor, scenario, scenario_config};
-use crate::flash::{SimError, SimFlash};
-use crate::sim::SimSensor;
+use hosttests::flash::{SimError, SimFlash};
+use hosttests::sim::SimSensor;
 
 /// The simulated flash of the demonstration device ([`Geometry::EXAMPLE`]: read size 1,
 /// write size 4, 4 KiB sectors).
@@ -123,7 +124,7 @@ fn run_session(
     let got = dev.journal.begin_session(start).map_err(other)?;
     dev.acknowledged.push(Record {
         seq: id.0,
-        body: Body::Start(photon_ledger::journal::record::SessionStart {
+        body: Body::Start(SessionStart {
             session: got,
             ..start
         }),

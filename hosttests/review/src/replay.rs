@@ -6,11 +6,11 @@
 //! session's integrator after the last sample, so a replay is bit-identical to the firmware
 //! pipeline fed the same readings.
 
-use std::io::IsTerminal;
+use std::io::{IsTerminal, Write as _};
 use std::time::{Duration, Instant};
 
 use photon_ledger::control::exposure::SolarMonitor;
-use photon_ledger::control::session::{Ignored, SessionConfigError};
+use photon_ledger::control::session::{to_exposure, Ignored, SessionConfigError};
 use photon_ledger::control::session::{PinError, SessionError};
 use photon_ledger::prelude::*;
 use sha2::{Digest, Sha256};
@@ -176,6 +176,31 @@ pub struct Replayer {
     limit_at: Option<f64>,
     uvi_max: f64,
     uvi_reported_max: u32,
+    series_csv: Option<SeriesCsv>,
+}
+
+/// Columns of the time-series CSV (`replay --series FILE`, `--format csv`); the last but two
+/// is `dose_` followed by the target's key, e.g. `dose_photons_umol`.
+pub const SERIES_COLUMNS: [&str; 7] = [
+    "time_s",
+    "irradiance_w_per_m2",
+    "photon_irradiance_umol_per_m2_s",
+    "radiant_exposure_j_per_m2",
+    "dose_",
+    "phase",
+    "line",
+];
+
+/// The time series being written, one row per sample.
+struct SeriesCsv {
+    out: Box<dyn std::io::Write>,
+    name: String,
+    error: Option<std::io::Error>,
+    /// The target's unit per J/m² (its key's value ÷ its radiant exposure).
+    unit_per_j_per_m2: f64,
+    mol_per_j: f64,
+    /// Decimals of a time: enough for one tick.
+    time_decimals: usize,
 }
 
 impl Replayer {
@@ -231,7 +256,107 @@ impl Replayer {
             limit_at: None,
             uvi_max: 0.0,
             uvi_reported_max: 0,
+            series_csv: None,
         })
+    }
+
+    /// Write the time series as CSV to `out` (named `name` in errors; `-` is standard
+    /// output), one row per sample: see [`SERIES_COLUMNS`].
+    ///
+    /// # Errors
+    /// An error writing the header.
+    pub fn write_series_csv(
+        &mut self,
+        mut out: Box<dyn std::io::Write>,
+        name: &str,
+    ) -> Result<(), ReviewError> {
+        let meter = self.session.meter();
+        let target_j = to_exposure(meter, self.config.session.target).map_or(0.0, |t| t.j_per_m2());
+        let unit_per_j_per_m2 = if target_j > 0.0 {
+            self.config.target.value / target_j
+        } else {
+            f64::NAN
+        };
+        let header = SERIES_COLUMNS
+            .map(|c| {
+                if c == "dose_" {
+                    format!("dose_{}", self.config.target.key)
+                } else {
+                    c.to_string()
+                }
+            })
+            .join(",");
+        if let Err(e) = writeln!(out, "{header}") {
+            return Err(series_error(name, e));
+        }
+        self.series_csv = Some(SeriesCsv {
+            out,
+            name: name.to_string(),
+            error: None,
+            unit_per_j_per_m2,
+            mol_per_j: meter.band().mol_per_j(),
+            time_decimals: (self.hz.log10().ceil().max(0.0) as usize).min(9),
+        });
+        Ok(())
+    }
+
+    /// Flush the time series; the first error writing it, if any.
+    ///
+    /// # Errors
+    /// The first write error, naming the output.
+    pub fn finish_series_csv(&mut self) -> Result<(), ReviewError> {
+        match self.series_csv.take() {
+            None => Ok(()),
+            Some(mut c) => {
+                let r = match c.error.take() {
+                    Some(e) => Err(e),
+                    None => c.out.flush(),
+                };
+                r.map_err(|e| series_error(&c.name, e))
+            }
+        }
+    }
+
+    #[cold]
+    fn series_row(&mut self, s: &Sample) {
+        let fe = self.session.meter().front_end();
+        let e = match fe.net_code(&s.reading) {
+            Ok(net) => self
+                .session
+                .meter()
+                .irradiance(net, s.reading.range)
+                .w_per_m2(),
+            Err(_) => f64::NAN,
+        };
+        let h = self.session.integrator().exposure().j_per_m2();
+        let t = self.time_s(s.t_abs);
+        let phase = phase_name(self.session.phase());
+        let Some(c) = self.series_csv.as_mut() else {
+            return;
+        };
+        if c.error.is_some() {
+            return;
+        }
+        let d = c.time_decimals;
+        let r = if e.is_nan() {
+            writeln!(
+                c.out,
+                "{t:.d$},,,{h},{},{phase},{}",
+                h * c.unit_per_j_per_m2,
+                s.line
+            )
+        } else {
+            writeln!(
+                c.out,
+                "{t:.d$},{e},{},{h},{},{phase},{}",
+                e * c.mol_per_j * 1e6,
+                h * c.unit_per_j_per_m2,
+                s.line
+            )
+        };
+        if let Err(err) = r {
+            c.error = Some(err);
+        }
     }
 
     /// Set the time of the first sample, s (times in the report are origin + ticks / rate).
@@ -343,6 +468,9 @@ impl Replayer {
             if let Some(series) = self.series.as_mut() {
                 series.push(s.t_abs, e, dose);
             }
+        }
+        if self.series_csv.is_some() {
+            self.series_row(s);
         }
         self.last_sample = Some(*s);
     }
@@ -508,8 +636,7 @@ impl Replayer {
             })
             .collect();
         let cfg = &self.config;
-        let tol = photon_ledger::control::session::to_exposure(meter, cfg.session.tolerance)
-            .map_or(0.0, |t| t.j_per_m2());
+        let tol = to_exposure(meter, cfg.session.tolerance).map_or(0.0, |t| t.j_per_m2());
         let start = self.origin_s;
         let end = self.prev.map_or(start, |(t, _)| self.time_s(t));
         let exposure = self
@@ -554,7 +681,8 @@ impl Replayer {
             report_format: REPORT_FORMAT.to_string(),
             report_version: REPORT_VERSION,
             complete: true,
-            tool: format!("photon-review {}", env!("CARGO_PKG_VERSION")),
+            tool: crate::TOOL.to_string(),
+            library: crate::LIBRARY.to_string(),
             session_sha256: hex(&id.finalize()),
             input,
             run: cfg.labels.clone(),
@@ -662,6 +790,14 @@ fn fault_detail(f: Fault, hz: f64) -> String {
     }
 }
 
+fn series_error(name: &str, e: std::io::Error) -> ReviewError {
+    if name == "-" {
+        ReviewError::Stdout(e)
+    } else {
+        ReviewError::io(name, e)
+    }
+}
+
 /// A reader that hashes what passes through it (SHA-256).
 struct Hashing<R> {
     inner: R,
@@ -698,6 +834,21 @@ pub fn replay_file(
     plot: bool,
     progress: bool,
 ) -> Result<ReplayOutput, ReviewError> {
+    replay_file_with_series(config, samples_path, plot, progress, None)
+}
+
+/// [`replay_file`], also writing the time series as CSV to `series` (a writer and its name,
+/// `-` for standard output; see [`Replayer::write_series_csv`]).
+///
+/// # Errors
+/// As [`replay_file`], and an error writing the series.
+pub fn replay_file_with_series(
+    config: &ReviewConfig,
+    samples_path: &str,
+    plot: bool,
+    progress: bool,
+    series: Option<(Box<dyn std::io::Write>, String)>,
+) -> Result<ReplayOutput, ReviewError> {
     let f = std::fs::File::open(samples_path).map_err(|e| ReviewError::io(samples_path, e))?;
     let total = f.metadata().map(|m| m.len()).unwrap_or(0);
     let hashing = Hashing {
@@ -706,6 +857,9 @@ pub fn replay_file(
     };
     let mut reader = SampleReader::new(samples_path, hashing, config)?;
     let mut replayer = Replayer::new(config, plot)?;
+    if let Some((out, name)) = series {
+        replayer.write_series_csv(out, &name)?;
+    }
     let started = Instant::now();
     let show = progress && std::io::stderr().is_terminal();
     let mut bar: Option<indicatif::ProgressBar> = None;
@@ -768,6 +922,7 @@ pub fn replay_file(
     };
     let reading_column = reader.value_kind().column();
     let rows = reader.rows();
+    replayer.finish_series_csv()?;
     let samples_sha256 = {
         // Read to the end (nothing is left after the last record but whitespace) and hash.
         let mut inner = reader.into_inner();

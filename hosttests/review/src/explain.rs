@@ -5,7 +5,7 @@
 
 use photon_ledger::control::session::to_exposure;
 use photon_ledger::prelude::*;
-use photon_ledger::quantity::si;
+use photon_ledger::quantity::{si, Seconds};
 use photon_ledger::spectral::weighting::UV_INDEX_PER_W_PER_M2;
 use serde::Serialize;
 
@@ -216,8 +216,8 @@ pub fn factors(cfg: &ReviewConfig) -> Vec<Factor> {
         }
         let top_effective =
             w * m.irradiance(1, RangeIndex(0)).w_per_m2() * f64::from(fe.high_limit() - 1);
-        if let Some(t) = (top_effective > 0.0)
-            .then(|| photon_ledger::quantity::Seconds::from_s(x.limit.j_per_m2() / top_effective))
+        if let Some(t) =
+            (top_effective > 0.0).then(|| Seconds::from_s(x.limit.j_per_m2() / top_effective))
         {
             v.push(f(
                 "exposure",

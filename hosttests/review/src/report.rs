@@ -23,6 +23,10 @@ pub struct Report {
     pub complete: bool,
     /// Tool name and version.
     pub tool: String,
+    /// Library name and version (the photon-ledger crate the results come from); absent in
+    /// reports written before it was added.
+    #[serde(default)]
+    pub library: String,
     /// SHA-256 identifying the session (configuration, samples and labels), hex.
     pub session_sha256: String,
     /// The inputs.
@@ -297,7 +301,7 @@ impl Report {
         use std::fmt::Write;
         let mut s = String::new();
         let r = self;
-        let _ = writeln!(s, "photon-review replay report ({})", r.tool);
+        let _ = writeln!(s, "photon-review replay report ({}, {})", r.tool, r.library);
         let _ = writeln!(
             s,
             "samples  {} ({} rows, {} / {})",

@@ -20,7 +20,7 @@ use super::config::{self, ReviewConfig};
 use super::error::ReviewError;
 use super::monitor::Unwired;
 use super::replay::new_session;
-use crate::sim::{Adc, Amplifier, Photodiode, Rng, SimSensor, WarmingLed};
+use hosttests::sim::{Adc, Amplifier, Photodiode, Rng, SimSensor, WarmingLed};
 
 /// A named scenario.
 #[derive(Debug, Clone, Copy)]

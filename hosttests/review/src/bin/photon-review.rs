@@ -2,16 +2,24 @@
 //! simulate sample files, explain a configuration, decode a device's flash image, and keep an
 //! exposure register.
 //!
-//! Run `photon-review --help` (or `cargo run -p hosttests --bin photon-review -- --help`).
+//! Run `photon-review --help` (or `cargo run -p photon-review -- --help`).
 //! Configuration and report keys: `hosttests/review/CONFIG.md`.
+//!
+//! Exit status: 0 done; 1 error (bad input, a refused or failed output: the message says what
+//! was written, if anything); 2 bad command line; 3 `replay --strict` and the run did not end
+//! with its target met (overexposed, fault, or still exposing at the end of the data; the
+//! outputs are written). A closed standard output (`| head`) ends quietly with 0.
 
 use std::io::Write;
 use std::process::ExitCode;
+use std::time::Duration;
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
-use hosttests::review::decode::{self, Geometry, RetentionPolicy};
-use hosttests::review::register::{self, Grouping, ImageLabels, Register};
-use hosttests::review::{config, demo_image, explain, plot, replay, simulate, time, ReviewError};
+use photon_review::decode::{self, Geometry, RetentionPolicy};
+use photon_review::files::{self, check_outputs, write_outputs};
+use photon_review::register::{self, Grouping, ImageLabels, Register};
+use photon_review::report::sig;
+use photon_review::{config, demo_image, explain, plot, replay, simulate, time, ReviewError};
 
 #[derive(Parser)]
 #[command(
@@ -19,16 +27,31 @@ use hosttests::review::{config, demo_image, explain, plot, replay, simulate, tim
     version,
     about = "Review photon-ledger dose runs on a PC: \
     replay samples through the firmware pipeline, plot, simulate, explain, decode flash images, \
-    register exposures"
+    register exposures",
+    after_help = "Exit status: 0 done; 1 error; 2 bad command line; 3 replay --strict and the \
+    target was not met (overexposed, fault, or still exposing at the end). A closed standard \
+    output ends quietly with 0."
 )]
 struct Cli {
     #[command(subcommand)]
     command: Command,
 }
 
-#[derive(Clone, Copy, ValueEnum)]
+#[derive(Clone, Copy, PartialEq, Eq, ValueEnum)]
 enum Format {
+    /// The text report.
     Text,
+    /// The JSON report.
+    Json,
+    /// The time series (one row per sample), as `--series` writes it.
+    Csv,
+}
+
+#[derive(Clone, Copy, PartialEq, Eq, ValueEnum)]
+enum TextJson {
+    /// Text for people.
+    Text,
+    /// JSON for programs.
     Json,
 }
 
@@ -43,6 +66,14 @@ enum DecodePrint {
 enum RetentionArg {
     Ring,
     KeepAll,
+}
+
+/// Seconds: finite, 0 to one hour.
+fn parse_seconds(s: &str) -> Result<f64, String> {
+    match s.trim().parse::<f64>() {
+        Ok(v) if v.is_finite() && (0.0..=3600.0).contains(&v) => Ok(v),
+        _ => Err(format!("`{s}` is not a number of seconds from 0 to 3600")),
+    }
 }
 
 /// A `u32` in decimal or with a `0x` prefix in hex.
@@ -112,7 +143,7 @@ enum Command {
         #[arg(long, short = 's')]
         samples: String,
         /// What to print on standard output.
-        #[arg(long, value_enum, default_value = "text")]
+        #[arg(long = "format", alias = "print", value_enum, default_value = "text")]
         print: Format,
         /// Also write the JSON report to this file.
         #[arg(long)]
@@ -123,6 +154,10 @@ enum Command {
         /// Draw irradiance and dose against time into this SVG file.
         #[arg(long)]
         plot: Option<String>,
+        /// Write the time series (time, irradiance, photon irradiance, dose, phase per sample)
+        /// as CSV to this file.
+        #[arg(long)]
+        series: Option<String>,
         /// Never show a progress bar.
         #[arg(long)]
         no_progress: bool,
@@ -138,6 +173,10 @@ enum Command {
         /// UTC start of the run, e.g. 2025-03-14T09:30:00Z (overrides run.start_utc).
         #[arg(long)]
         start_utc: Option<String>,
+        /// Exit with status 3 unless the run ended with its target met (for QA scripts); the
+        /// report and files are written either way.
+        #[arg(long)]
+        strict: bool,
     },
     /// Decode a raw flash image of the session journal: records as CSV and JSON, and a
     /// summary of its sessions. Never writes to the image.
@@ -147,7 +186,7 @@ enum Command {
         #[command(flatten)]
         geometry: GeometryArgs,
         /// What to print on standard output.
-        #[arg(long, value_enum, default_value = "text")]
+        #[arg(long = "format", alias = "print", value_enum, default_value = "text")]
         print: DecodePrint,
         /// Also write the JSON (records, sessions) to this file.
         #[arg(long)]
@@ -189,7 +228,10 @@ enum Command {
         /// Session configuration file (TOML).
         #[arg(long, short = 'c')]
         config: String,
-        /// Print JSON instead of text.
+        /// What to print on standard output.
+        #[arg(long, value_enum, default_value = "text")]
+        format: TextJson,
+        /// Same as `--format json`.
         #[arg(long)]
         json: bool,
     },
@@ -229,6 +271,9 @@ enum RegisterAction {
         reactor_id: Option<String>,
         #[command(flatten)]
         geometry: GeometryArgs,
+        /// Seconds to wait for another process's lock on the register (each of 4 attempts).
+        #[arg(long, value_parser = parse_seconds, default_value = "10")]
+        busy_timeout: f64,
     },
     /// Dose per device, person or reactor per UTC day.
     DosePerDay {
@@ -238,7 +283,10 @@ enum RegisterAction {
         /// Group by.
         #[arg(long, value_enum, default_value = "device")]
         by: By,
-        /// Print JSON.
+        /// What to print on standard output.
+        #[arg(long, value_enum, default_value = "text")]
+        format: TextJson,
+        /// Same as `--format json`.
         #[arg(long)]
         json: bool,
     },
@@ -247,7 +295,10 @@ enum RegisterAction {
         /// Register file.
         #[arg(long)]
         db: String,
-        /// Print JSON.
+        /// What to print on standard output.
+        #[arg(long, value_enum, default_value = "text")]
+        format: TextJson,
+        /// Same as `--format json`.
         #[arg(long)]
         json: bool,
     },
@@ -256,21 +307,52 @@ enum RegisterAction {
         /// Register file.
         #[arg(long)]
         db: String,
-        /// Print JSON.
+        /// What to print on standard output.
+        #[arg(long, value_enum, default_value = "text")]
+        format: TextJson,
+        /// Same as `--format json`.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Check a register: SQLite's full integrity check, the schema version and every stored
+    /// value (exit status 1 if anything is wrong).
+    Check {
+        /// Register file.
+        #[arg(long)]
+        db: String,
+        /// What to print on standard output.
+        #[arg(long, value_enum, default_value = "text")]
+        format: TextJson,
+        /// Same as `--format json`.
         #[arg(long)]
         json: bool,
     },
 }
 
-/// Write `contents` to `path` through a temporary file and a rename, so a reader never sees
-/// half a file.
-fn write_atomic(path: &str, contents: &[u8]) -> Result<(), ReviewError> {
-    let tmp = format!("{path}.partial");
-    let mut f = std::fs::File::create(&tmp).map_err(|e| ReviewError::io(&tmp, e))?;
-    f.write_all(contents)
-        .and_then(|()| f.sync_all())
-        .map_err(|e| ReviewError::io(&tmp, e))?;
-    std::fs::rename(&tmp, path).map_err(|e| ReviewError::io(path, e))
+/// Standard output: every write error is reported (a full disk fails the command; a closed
+/// pipe is told apart by `main`).
+struct Out {
+    w: std::io::StdoutLock<'static>,
+}
+
+impl Out {
+    fn say(&mut self, s: &str) -> Result<(), ReviewError> {
+        self.w.write_all(s.as_bytes()).map_err(ReviewError::Stdout)
+    }
+    fn finish(&mut self) -> Result<(), ReviewError> {
+        self.w.flush().map_err(ReviewError::Stdout)
+    }
+}
+
+/// Set once an import has been committed (for the message after a later error).
+static IMPORTED: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
+
+/// How a command that ran to the end came out.
+enum Done {
+    /// Nothing to report.
+    Ok,
+    /// `--strict`: the run did not end with its target met (the reason).
+    NotMet(String),
 }
 
 fn json<T: serde::Serialize>(v: &T) -> Result<String, ReviewError> {
@@ -281,11 +363,8 @@ fn opt(s: &Option<String>) -> &str {
     s.as_deref().unwrap_or("-")
 }
 
-fn run(cli: Cli) -> Result<(), ReviewError> {
-    let mut out = std::io::stdout().lock();
-    let mut say = |s: &str| {
-        let _ = out.write_all(s.as_bytes());
-    };
+fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
+    let mut done = Done::Ok;
     match cli.command {
         Command::Replay {
             config,
@@ -294,12 +373,21 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
             json: json_out,
             text,
             plot: plot_out,
+            series: series_out,
             no_progress,
             device_id,
             person_id,
             reactor_id,
             start_utc,
+            strict,
         } => {
+            let inputs = [config.as_str(), samples.as_str()];
+            let outputs: Vec<&str> = [&series_out, &json_out, &text, &plot_out]
+                .into_iter()
+                .flatten()
+                .map(String::as_str)
+                .collect();
+            check_outputs(&outputs, &inputs)?;
             let mut cfg = config::load(&config)?;
             if let Some(s) = &start_utc {
                 if time::parse_utc(s).is_none() {
@@ -319,7 +407,40 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
                     *slot = v;
                 }
             }
-            let result = replay::replay_file(&cfg, &samples, plot_out.is_some(), !no_progress)?;
+            let mut staged = Vec::new();
+            let series: Option<(Box<dyn Write>, String)> = match (&series_out, print) {
+                (Some(_), Format::Csv) => {
+                    return Err(ReviewError::Other(
+                        "--format csv prints the time series and --series FILE writes it: \
+                         give one of them"
+                            .into(),
+                    ))
+                }
+                (Some(p), _) => {
+                    let st = files::stage(p, &inputs)?;
+                    let f = st.reopen()?;
+                    staged.push(st);
+                    Some((
+                        Box::new(std::io::BufWriter::with_capacity(1 << 16, f)),
+                        p.clone(),
+                    ))
+                }
+                (None, Format::Csv) => Some((
+                    Box::new(std::io::BufWriter::with_capacity(
+                        1 << 16,
+                        std::io::stdout(),
+                    )),
+                    "-".to_string(),
+                )),
+                (None, _) => None,
+            };
+            let result = replay::replay_file_with_series(
+                &cfg,
+                &samples,
+                plot_out.is_some(),
+                !no_progress,
+                series,
+            )?;
             // Everything below runs only after the whole file was replayed.
             let report = &result.report;
             let svg = match (&plot_out, &result.series) {
@@ -328,21 +449,35 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
             };
             let text_report = report.to_text();
             let json_report = json(report)?;
+            let mut files: Vec<(&str, &[u8])> = Vec::new();
             if let Some(p) = &json_out {
-                write_atomic(p, json_report.as_bytes())?;
+                files.push((p, json_report.as_bytes()));
             }
             if let Some(p) = &text {
-                write_atomic(p, text_report.as_bytes())?;
+                files.push((p, text_report.as_bytes()));
             }
             if let (Some(p), Some(svg)) = (&plot_out, &svg) {
-                write_atomic(p, svg.as_bytes())?;
+                files.push((p, svg.as_bytes()));
             }
+            files::write_outputs_with(&files, staged, &inputs)?;
             match print {
-                Format::Text => say(&text_report),
+                Format::Text => out.say(&text_report)?,
                 Format::Json => {
-                    say(&json_report);
-                    say("\n");
+                    out.say(&json_report)?;
+                    out.say("\n")?;
                 }
+                Format::Csv => {} // written during the replay
+            }
+            if strict && report.outcome.stop_reason != "target_met" {
+                done = Done::NotMet(format!(
+                    "--strict: the run ended `{}`{}, not `target_met`",
+                    report.outcome.stop_reason,
+                    report
+                        .outcome
+                        .fault
+                        .as_deref()
+                        .map_or(String::new(), |f| format!(" ({f})"))
+                ));
             }
         }
         Command::Decode {
@@ -354,6 +489,13 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
             text,
             restatements,
         } => {
+            let inputs = [image.as_str()];
+            let outputs: Vec<&str> = [&json_out, &csv, &text]
+                .into_iter()
+                .flatten()
+                .map(String::as_str)
+                .collect();
+            check_outputs(&outputs, &inputs)?;
             let d = decode::decode_file(&image, &geometry.geometry())?;
             // Everything below runs only after the whole image was decoded.
             let text_out = d.to_text();
@@ -363,22 +505,24 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
             } else {
                 &d.csv
             };
+            let mut files: Vec<(&str, &[u8])> = Vec::new();
             if let Some(p) = &json_out {
-                write_atomic(p, json_text.as_bytes())?;
+                files.push((p, json_text.as_bytes()));
             }
             if let Some(p) = &csv {
-                write_atomic(p, csv_text.as_bytes())?;
+                files.push((p, csv_text.as_bytes()));
             }
             if let Some(p) = &text {
-                write_atomic(p, text_out.as_bytes())?;
+                files.push((p, text_out.as_bytes()));
             }
+            write_outputs(&files, &inputs)?;
             match print {
-                DecodePrint::Text => say(&text_out),
+                DecodePrint::Text => out.say(&text_out)?,
                 DecodePrint::Json => {
-                    say(&json_text);
-                    say("\n");
+                    out.say(&json_text)?;
+                    out.say("\n")?;
                 }
-                DecodePrint::Csv => say(csv_text),
+                DecodePrint::Csv => out.say(csv_text)?,
             }
         }
         Command::Simulate {
@@ -387,13 +531,13 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
             ..
         } => {
             let demo = demo_image::demo_journal(seed)?;
-            write_atomic(&p, &demo.image)?;
-            say(&format!(
+            write_outputs(&[(p.as_str(), &demo.image)], &[])?;
+            out.say(&format!(
                 "{p}: flash image of a demonstration journal ({} bytes, {} records acknowledged, \
                  the last write cut by a power loss); decode it with `photon-review decode {p}`\n",
                 demo.image.len(),
                 demo.acknowledged.len()
-            ));
+            ))?;
         }
         Command::Simulate {
             scenario,
@@ -405,9 +549,9 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
         } => {
             if list || scenario.is_none() {
                 for s in &simulate::SCENARIOS {
-                    say(&format!("{:<22} {}\n", s.name, s.summary));
+                    out.say(&format!("{:<22} {}\n", s.name, s.summary))?;
                 }
-                return Ok(());
+                return Ok(Done::Ok);
             }
             let name = scenario.unwrap_or_default();
             let s = simulate::scenario(&name).ok_or_else(|| {
@@ -421,27 +565,34 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
                 .filter(|l| !l.starts_with('#'))
                 .count()
                 .saturating_sub(1);
-            match &csv_out {
-                Some(p) => {
-                    write_atomic(p, csv.as_bytes())?;
-                    say(&format!("{p}: {rows} samples of scenario {}\n", s.name));
-                }
-                None => say(&csv),
+            let mut files: Vec<(&str, &[u8])> = Vec::new();
+            if let Some(p) = &csv_out {
+                files.push((p, csv.as_bytes()));
             }
             if let Some(p) = &config_out {
-                write_atomic(p, s.config_toml.as_bytes())?;
-                if csv_out.is_some() {
-                    say(&format!("{p}: its configuration\n"));
-                }
+                files.push((p, s.config_toml.as_bytes()));
+            }
+            write_outputs(&files, &[])?;
+            match &csv_out {
+                Some(p) => out.say(&format!("{p}: {rows} samples of scenario {}\n", s.name))?,
+                None => out.say(&csv)?,
+            }
+            if let (Some(p), Some(_)) = (&config_out, &csv_out) {
+                out.say(&format!("{p}: its configuration\n"))?;
             }
         }
-        Command::Explain { config, json: j } => {
+        Command::Explain {
+            config,
+            json: json_flag,
+            format,
+        } => {
+            let j = json_flag || format == TextJson::Json;
             let cfg = config::load(&config)?;
             if j {
-                say(&json(&explain::factors(&cfg))?);
-                say("\n");
+                out.say(&json(&explain::factors(&cfg))?)?;
+                out.say("\n")?;
             } else {
-                say(&explain::to_text(&cfg));
+                out.say(&explain::to_text(&cfg))?;
             }
         }
         Command::Register { action } => match action {
@@ -454,7 +605,11 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
                 person_id,
                 reactor_id,
                 geometry,
+                busy_timeout,
             } => {
+                // The register is never one of the inputs.
+                let inputs: Vec<&str> = reports.iter().chain(&image).map(String::as_str).collect();
+                check_outputs(&[db.as_str()], &inputs)?;
                 // Every input is read and checked before the register is touched.
                 let mut summaries = register::report_summaries(&reports)?;
                 let mut skipped = Vec::new();
@@ -474,20 +629,31 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
                     summaries.extend(found.summaries);
                     skipped = found.skipped;
                 }
-                let mut r = Register::open(&db)?;
-                let stats = r.import(&summaries)?;
-                for m in &skipped {
-                    say(&format!("{m}\n"));
+                for s in &summaries {
+                    s.validate()?;
                 }
-                say(&format!(
+                let mut r =
+                    Register::open_with_timeout(&db, Duration::from_secs_f64(busy_timeout))?;
+                let stats = r.import(&summaries)?;
+                IMPORTED.store(true, std::sync::atomic::Ordering::SeqCst);
+                for m in &skipped {
+                    out.say(&format!("{m}\n"))?;
+                }
+                out.say(&format!(
                     "{db}: {} added, {} already present, {} sessions in the register\n",
                     stats.added,
                     stats.already_present,
                     r.session_count()?
-                ));
+                ))?;
             }
-            RegisterAction::DosePerDay { db, by, json: j } => {
-                let r = Register::open(&db)?;
+            RegisterAction::DosePerDay {
+                db,
+                by,
+                json: json_flag,
+                format,
+            } => {
+                let j = json_flag || format == TextJson::Json;
+                let r = Register::open_existing(&db)?;
                 let g = match by {
                     By::Device => Grouping::Device,
                     By::Person => Grouping::Person,
@@ -495,93 +661,141 @@ fn run(cli: Cli) -> Result<(), ReviewError> {
                 };
                 let rows = r.dose_per_day(g)?;
                 if j {
-                    say(&json(&rows)?);
-                    say("\n");
+                    out.say(&json(&rows)?)?;
+                    out.say("\n")?;
                 } else {
-                    say(&format!(
+                    out.say(&format!(
                         "{:<10}  {:<20} {:>8}  {:>16}  {:>14}  {:>16}\n",
                         "day (UTC)", "group", "sessions", "J/m²", "photons µmol", "effective J/m²"
-                    ));
+                    ))?;
                     for d in rows {
-                        say(&format!(
+                        out.say(&format!(
                             "{:<10}  {:<20} {:>8}  {:>16}  {:>14}  {:>16}\n",
                             d.day_utc,
                             opt(&d.group),
                             d.sessions,
-                            hosttests::review::report::sig(d.radiant_exposure_j_per_m2),
-                            d.photons_mol
-                                .map_or("-".into(), |m| hosttests::review::report::sig(m * 1e6)),
-                            d.effective_exposure_j_per_m2
-                                .map_or("-".into(), hosttests::review::report::sig),
-                        ));
+                            sig(d.radiant_exposure_j_per_m2),
+                            d.photons_mol.map_or("-".into(), |m| sig(m * 1e6)),
+                            d.effective_exposure_j_per_m2.map_or("-".into(), sig),
+                        ))?;
                     }
                 }
             }
-            RegisterAction::Faults { db, json: j } => {
-                let rows = Register::open(&db)?.fault_sessions()?;
+            RegisterAction::Faults {
+                db,
+                json: json_flag,
+                format,
+            } => {
+                let j = json_flag || format == TextJson::Json;
+                let rows = Register::open_existing(&db)?.fault_sessions()?;
                 if j {
-                    say(&json(&rows)?);
-                    say("\n");
+                    out.say(&json(&rows)?)?;
+                    out.say("\n")?;
                 } else {
                     for f in rows {
-                        say(&format!(
+                        out.say(&format!(
                             "{}  device {}  person {}  reactor {}  fault {}  {} J/m²  ({})\n",
                             f.start_utc,
                             opt(&f.device_id),
                             opt(&f.person_id),
                             opt(&f.reactor_id),
                             f.fault,
-                            hosttests::review::report::sig(f.radiant_exposure_j_per_m2),
+                            sig(f.radiant_exposure_j_per_m2),
                             f.source_name
-                        ));
+                        ))?;
                     }
                 }
             }
-            RegisterAction::LimitDays { db, json: j } => {
-                let rows = Register::open(&db)?.limit_days()?;
+            RegisterAction::LimitDays {
+                db,
+                json: json_flag,
+                format,
+            } => {
+                let j = json_flag || format == TextJson::Json;
+                let rows = Register::open_existing(&db)?.limit_days()?;
                 if j {
-                    say(&json(&rows)?);
-                    say("\n");
+                    out.say(&json(&rows)?)?;
+                    out.say("\n")?;
                 } else {
                     for d in rows {
-                        say(&format!(
+                        out.say(&format!(
                             "{}  {}  {} J/m² effective (limit {} J/m²): {}\n",
                             d.day_utc,
                             opt(&d.who),
-                            hosttests::review::report::sig(d.effective_exposure_j_per_m2),
-                            hosttests::review::report::sig(d.limit_j_per_m2),
+                            sig(d.effective_exposure_j_per_m2),
+                            sig(d.limit_j_per_m2),
                             d.reason
-                        ));
+                        ))?;
                     }
+                }
+            }
+            RegisterAction::Check {
+                db,
+                json: json_flag,
+                format,
+            } => {
+                let j = json_flag || format == TextJson::Json;
+                let c = Register::open_existing(&db)?.check()?;
+                if j {
+                    out.say(&json(&c)?)?;
+                    out.say("\n")?;
+                } else if c.problems.is_empty() {
+                    out.say(&format!("{db}: ok, {} sessions\n", c.sessions))?;
+                }
+                if !c.problems.is_empty() {
+                    return Err(ReviewError::Register(format!(
+                        "{db}: {} problems: {}",
+                        c.problems.len(),
+                        c.problems.join("; ")
+                    )));
                 }
             }
         },
     }
-    Ok(())
+    out.finish()?;
+    Ok(done)
 }
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
-    let replaying = matches!(cli.command, Command::Replay { .. });
-    let decoding = matches!(cli.command, Command::Decode { .. });
     let importing = matches!(
         cli.command,
         Command::Register {
             action: RegisterAction::Import { .. }
         }
     );
-    match run(cli) {
-        Ok(()) => ExitCode::SUCCESS,
+    let mut out = Out {
+        w: std::io::stdout().lock(),
+    };
+    match run(cli, &mut out) {
+        Ok(Done::Ok) => ExitCode::SUCCESS,
+        Ok(Done::NotMet(why)) => {
+            eprintln!("photon-review: {why}");
+            ExitCode::from(3)
+        }
+        // A reader that stopped reading (`| head -1`): not an error of this tool.
+        Err(ReviewError::Stdout(e)) if e.kind() == std::io::ErrorKind::BrokenPipe => {
+            ExitCode::SUCCESS
+        }
         Err(e) => {
             eprintln!("photon-review: error: {e}");
-            if replaying {
-                eprintln!("photon-review: no report was written");
-            }
-            if decoding {
-                eprintln!("photon-review: nothing was decoded or written");
+            let written = photon_review::files::written();
+            if importing {
+                // The register is changed in place, never through a file written here.
+            } else if written.is_empty() {
+                eprintln!("photon-review: no file was written");
+            } else {
+                eprintln!(
+                    "photon-review: written before the error: {}",
+                    written.join(", ")
+                );
             }
             if importing {
-                eprintln!("photon-review: nothing was imported");
+                if IMPORTED.load(std::sync::atomic::Ordering::SeqCst) {
+                    eprintln!("photon-review: the import was committed before the error");
+                } else {
+                    eprintln!("photon-review: nothing was imported");
+                }
             }
             ExitCode::FAILURE
         }

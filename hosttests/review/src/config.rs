@@ -53,6 +53,7 @@ use photon_ledger::control::session::SessionConfigError;
 use photon_ledger::frontend::FrontEndError;
 use photon_ledger::irradiance::{CalibrationError, MeterError};
 use photon_ledger::prelude::*;
+use photon_ledger::spectral::band::BandError;
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 use toml::Spanned;
@@ -78,7 +79,25 @@ struct ConfigToml {
     session: S<SessionToml>,
     exposure: Option<S<ExposureToml>>,
     solar: Option<S<SolarToml>>,
+    samples: Option<S<SamplesToml>>,
 }
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct SamplesToml {
+    extra_columns: S<Vec<String>>,
+}
+
+/// Column names the sample file reader knows (an extra column may not take one of them).
+pub const SAMPLE_COLUMNS: [&str; 7] = [
+    "time_s",
+    "time_ticks",
+    "adc_code",
+    "current_a",
+    "irradiance_w_per_m2",
+    "range",
+    "temperature_c",
+];
 
 /// Labels of a run, copied into the report and the exposure register. All optional.
 #[derive(Debug, Clone, Default, PartialEq, Eq, Serialize, Deserialize)]
@@ -239,6 +258,8 @@ pub struct ReviewConfig {
     pub exposure: Option<ExposureSetup>,
     /// Solar UV, if configured.
     pub solar: Option<SolarSetup>,
+    /// Sample file columns declared in `[samples] extra_columns`: accepted and not read.
+    pub extra_columns: Vec<String>,
 }
 
 struct Ctx<'a> {
@@ -267,6 +288,27 @@ impl Ctx<'_> {
             Err(self.err(v.span(), key, format!("must be finite and > 0, is {x}")))
         }
     }
+    /// `v` must lie in the engineering range `lo ..= hi` (see [`RANGES`]).
+    fn in_range(&self, v: &S<f64>, key: &str) -> Result<f64, ReviewError> {
+        let x = *v.get_ref();
+        let Some(&(_, lo, hi, unit)) = RANGES.iter().find(|(k, ..)| *k == key) else {
+            return Ok(x);
+        };
+        if x.is_finite() && (lo..=hi).contains(&x) {
+            Ok(x)
+        } else {
+            Err(self.err(
+                v.span(),
+                key,
+                format!(
+                    "{} {unit} is outside the sane range {} ..= {} {unit}",
+                    num(x),
+                    num(lo),
+                    num(hi)
+                ),
+            ))
+        }
+    }
     fn seconds_to_ticks(&self, v: &S<f64>, key: &str, hz: u32) -> Result<u32, ReviewError> {
         let s = self.positive(v, key)?;
         let ticks = s * f64::from(hz);
@@ -285,13 +327,42 @@ impl Ctx<'_> {
     }
 }
 
+/// A number for a message: plain between 10⁻³ and 10⁶, else in exponent form.
+fn num(x: f64) -> String {
+    if x != 0.0 && x.is_finite() && !(1e-3..1e6).contains(&x.abs()) {
+        format!("{x:e}")
+    } else {
+        format!("{x}")
+    }
+}
+
+/// Engineering ranges of the configuration's physical values: key, lowest, highest, unit.
+/// A value outside is refused as a typo or a unit slip (a reference of 3300 V for 3.3 V, an
+/// area in m² where mm² are asked), even when the library could compute with it. The bounds
+/// are generous and documented in CONFIG.md; they are common practice, no source.
+pub const RANGES: [(&str, f64, f64, &str); 10] = [
+    ("adc.reference_v", 0.1, 100.0, "V"),
+    ("adc.pga_gain", 0.01, 1000.0, "(gain)"),
+    ("ranges.transimpedance_ohm", 1.0, 1.0e12, "Ω"),
+    ("calibration.responsivity_a_per_w", 1.0e-6, 1000.0, "A/W"),
+    ("calibration.active_area_mm2", 1.0e-4, 1.0e4, "mm²"),
+    ("calibration.factor_w_per_m2_per_a", 0.1, 1.0e16, "(W/m²)/A"),
+    ("session.sample_area_cm2", 1.0e-6, 1.0e6, "cm²"),
+    ("exposure.weight_factor", 1.0e-9, 10.0, "(ratio)"),
+    ("exposure.limit_j_per_m2", 1.0e-6, 1.0e9, "J/m²"),
+    ("solar.erythema_weight_factor", 1.0e-9, 10.0, "(ratio)"),
+];
+
+/// Largest configuration file read, bytes (a configuration is a few kilobytes).
+pub const MAX_CONFIG_BYTES: u64 = 1 << 20;
+
 /// Read and validate a configuration file.
 ///
 /// # Errors
 /// [`ReviewError::Io`] if the file cannot be read; [`ReviewError::Input`] with the line,
 /// column and key of the first bad value, unknown key or syntax error.
 pub fn load(path: &str) -> Result<ReviewConfig, ReviewError> {
-    let bytes = std::fs::read(path).map_err(|e| ReviewError::io(path, e))?;
+    let bytes = super::files::read_limited(path, MAX_CONFIG_BYTES, "configuration file")?;
     parse(path, &bytes)
 }
 
@@ -368,6 +439,40 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
             ))
         }
     };
+    ctx.in_range(&a.reference_v, "adc.reference_v")?;
+    if let Some(g) = &a.pga_gain {
+        ctx.in_range(g, "adc.pga_gain")?;
+    }
+    for (n, rng) in raw.ranges.get_ref().iter().enumerate() {
+        let v = &rng.get_ref().transimpedance_ohm;
+        if let Err(e) = ctx.in_range(v, "ranges.transimpedance_ohm") {
+            let ReviewError::Input { message, .. } = e else {
+                return Err(e);
+            };
+            return Err(ctx.err(
+                v.span(),
+                &format!("ranges[{n}].transimpedance_ohm"),
+                message,
+            ));
+        }
+    }
+    let c = raw.calibration.get_ref();
+    for (v, key) in [
+        (&c.responsivity_a_per_w, "calibration.responsivity_a_per_w"),
+        (&c.active_area_mm2, "calibration.active_area_mm2"),
+        (
+            &c.factor_w_per_m2_per_a,
+            "calibration.factor_w_per_m2_per_a",
+        ),
+        (
+            &raw.session.get_ref().sample_area_cm2,
+            "session.sample_area_cm2",
+        ),
+    ] {
+        if let Some(v) = v {
+            ctx.in_range(v, key)?;
+        }
+    }
     let adc = AdcSpec {
         bits: *a.bits.get_ref(),
         reference: Voltage::from_v(*a.reference_v.get_ref()),
@@ -433,7 +538,6 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
     };
 
     // [calibration]
-    let c = raw.calibration.get_ref();
     let calibration =
         match (
             &c.responsivity_a_per_w,
@@ -510,7 +614,7 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
                     .map_or(raw.calibration.span(), |v| v.span()),
                 "calibration.factor_w_per_m2_per_a",
             ),
-            MeterError::Band(photon_ledger::spectral::band::BandError::Wavelength) => (
+            MeterError::Band(BandError::Wavelength) => (
                 b.line_nm
                     .as_ref()
                     .or(b.peak_nm.as_ref())
@@ -521,7 +625,7 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
                     "band.peak_nm"
                 },
             ),
-            MeterError::Band(photon_ledger::spectral::band::BandError::Fwhm) => (
+            MeterError::Band(BandError::Fwhm) => (
                 b.fwhm_nm.as_ref().map_or(raw.band.span(), |v| v.span()),
                 "band.fwhm_nm",
             ),
@@ -536,6 +640,19 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
     })?;
     let target = dose(&ctx, &s.target, "session.target")?;
     let tolerance = dose(&ctx, &s.tolerance, "session.tolerance")?;
+    if tolerance.value == 0.0 {
+        // The library turns the session overexposed when one sample carries the dose past
+        // target + tolerance, also on the sample that reaches the target: with a tolerance of
+        // 0 every run whose last sample overshoots the target by any amount (all of them, in
+        // practice) ends `overexposed`.
+        return Err(ctx.err(
+            s.tolerance.span(),
+            &format!("session.tolerance.{}", tolerance.key),
+            "must be > 0: the sample that reaches the target carries the dose past it by up to \
+             one interval's dose, and the firmware counts any dose past target + tolerance as \
+             an overexposure; give at least the dose one sample interval can deliver",
+        ));
+    }
     let session = SessionConfig {
         target: target.amount,
         tolerance: tolerance.amount,
@@ -571,6 +688,8 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
         Some(x) => {
             let xe = x.get_ref();
             let w = ctx.positive(&xe.weight_factor, "exposure.weight_factor")?;
+            ctx.in_range(&xe.weight_factor, "exposure.weight_factor")?;
+            ctx.in_range(&xe.limit_j_per_m2, "exposure.limit_j_per_m2")?;
             let setup = ExposureSetup {
                 weight: WeightFactor::from_ratio(w).unwrap_or(WeightFactor::UNWEIGHTED),
                 window_ticks: ctx.seconds_to_ticks(&xe.window_s, "exposure.window_s", hz)?,
@@ -624,6 +743,7 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
         Some(x) => {
             let xs = x.get_ref();
             let w = ctx.positive(&xs.erythema_weight_factor, "solar.erythema_weight_factor")?;
+            ctx.in_range(&xs.erythema_weight_factor, "solar.erythema_weight_factor")?;
             let averaging_ticks = match &xs.averaging_s {
                 Some(v) => ctx.seconds_to_ticks(v, "solar.averaging_s", hz)?,
                 None => 600u32.saturating_mul(hz),
@@ -645,7 +765,32 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
         }
     };
 
+    // [samples]
+    let mut extra_columns: Vec<String> = Vec::new();
+    if let Some(t) = &raw.samples {
+        let v = &t.get_ref().extra_columns;
+        for name in v.get_ref() {
+            let why = if name.trim().is_empty() || name.trim() != name || name.contains(',') {
+                Some("a column name: not empty, no commas, no spaces around it")
+            } else if SAMPLE_COLUMNS.contains(&name.as_str()) {
+                Some("a column the reader knows; it cannot be an extra column")
+            } else if extra_columns.contains(name) {
+                Some("named twice")
+            } else {
+                None
+            };
+            if let Some(why) = why {
+                return Err(ctx.err(
+                    v.span(),
+                    "samples.extra_columns",
+                    format!("`{}`: {why}", super::files::echo(name)),
+                ));
+            }
+            extra_columns.push(name.clone());
+        }
+    }
     Ok(ReviewConfig {
+        extra_columns,
         file: file.to_string(),
         sha256,
         labels,

@@ -6,7 +6,7 @@
 //! pipeline and the replay engine, and every row written to the CSV file must be read back,
 //! by the CSV split and by the end-to-end replay.
 //!
-//! Run: `cargo bench -p hosttests --bench replay`
+//! Run: `cargo bench -p photon-review --bench replay`
 //! (`REPLAY_BENCH_SAMPLES=N` changes the number of samples, default 20 000 000 in memory and
 //! 10 000 000 in the file.)
 
@@ -14,11 +14,11 @@ use std::hint::black_box;
 use std::io::Write;
 use std::time::Instant;
 
-use hosttests::review::config;
-use hosttests::review::replay::{new_session, replay_file, Replayer};
-use hosttests::review::samples::Sample;
 use hosttests::sim::Rng;
 use photon_ledger::prelude::*;
+use photon_review::config;
+use photon_review::replay::{new_session, replay_file, Replayer};
+use photon_review::samples::Sample;
 
 /// A two-range 16-bit station whose target is far away, so every sample is integrated.
 const CONFIG: &str = r#"

@@ -40,8 +40,8 @@ use photon_ledger::journal::export::{
     event_name, export_csv, fault_name, outcome_name, ExportError,
 };
 use photon_ledger::journal::record::{
-    Body, Checkpoint, EventCode, Record, RecordError, SessionEnd, SessionOutcome, SessionStart,
-    StoredExposure, StoredIrradiance, MAX_RECORD_LEN, VERSION_MAJOR,
+    Body, Checkpoint, Event, EventCode, FaultCode, Record, RecordError, SessionEnd, SessionOutcome,
+    SessionStart, StoredExposure, StoredIrradiance, MAX_RECORD_LEN, VERSION_MAJOR,
 };
 use photon_ledger::journal::{
     sector_state, ConfigError, Journal, JournalConfig, JournalError, MountReport, OpenSession,
@@ -371,6 +371,8 @@ pub struct Decoded {
     pub complete: bool,
     /// Tool name and version.
     pub tool: String,
+    /// Library name and version (the photon-ledger crate whose journal code decoded it).
+    pub library: String,
     /// The image file.
     pub input: ImageInput,
     /// The geometry it was decoded with.
@@ -782,7 +784,7 @@ struct SessionAcc {
     last_delivered: Option<StoredExposure>,
     last_checkpoint: Option<Checkpoint>,
     checkpoints: u64,
-    events: Vec<(u32, photon_ledger::journal::record::Event)>,
+    events: Vec<(u32, Event)>,
     end: Option<(u32, SessionEnd)>,
 }
 
@@ -900,7 +902,40 @@ pub fn decode_image(file: &str, image: &[u8], g: &Geometry) -> Result<Decoded, R
 /// # Errors
 /// As [`decode_image`], and an unreadable file.
 pub fn decode_file(path: &str, g: &Geometry) -> Result<Decoded, ReviewError> {
-    let image = std::fs::read(path).map_err(|e| ReviewError::io(path, e))?;
+    check_geometry(g)?;
+    let want = g.image_len();
+    // The size is checked from the file's metadata before anything is read: an image larger
+    // than its geometry, or a device, pipe or directory, is refused without reading it.
+    let meta = std::fs::metadata(path).map_err(|e| ReviewError::io(path, e))?;
+    if !meta.is_file() {
+        return Err(ReviewError::Image {
+            file: path.to_string(),
+            offset: None,
+            sector: None,
+            message: "not a regular file (an image is a file read out of the device); not read"
+                .to_string(),
+        });
+    }
+    if meta.len() > want {
+        return Err(ReviewError::Image {
+            file: path.to_string(),
+            offset: Some(want),
+            sector: None,
+            message: format!(
+                "the image is {} bytes, {} more than the geometry ({} sectors × {} bytes = \
+                 {want} bytes) holds, from image byte {want} on: not this journal's range, or \
+                 --sectors / --sector-size are wrong; not read",
+                meta.len(),
+                meta.len() - want,
+                g.sectors,
+                g.sector_size_bytes
+            ),
+        });
+    }
+    let mut image = Vec::with_capacity(usize::try_from(meta.len()).unwrap_or(0));
+    std::fs::File::open(path)
+        .and_then(|f| std::io::Read::read_to_end(&mut std::io::Read::take(f, want + 1), &mut image))
+        .map_err(|e| ReviewError::io(path, e))?;
     decode_image(path, &image, g)
 }
 
@@ -1280,7 +1315,8 @@ fn analyse(cx: &Ctx<'_>, states: &[SectorState], m: Mounted) -> Result<Decoded, 
         decode_format: DECODE_FORMAT.into(),
         decode_version: DECODE_VERSION,
         complete: true,
-        tool: format!("photon-review {}", env!("CARGO_PKG_VERSION")),
+        tool: crate::TOOL.to_string(),
+        library: crate::LIBRARY.to_string(),
         input: ImageInput {
             image_file: cx.file.to_string(),
             image_sha256: hex(&Sha256::digest(cx.image)),
@@ -1366,9 +1402,7 @@ fn session_report(
         .map(|(seq, e)| {
             match e.code {
                 EventCode::Fault(f) => faults.push(match f {
-                    photon_ledger::journal::record::FaultCode::Other(c) => {
-                        format!("other:{c:#04x}")
-                    }
+                    FaultCode::Other(c) => format!("other:{c:#04x}"),
                     f => fault_name(f).to_string(),
                 }),
                 EventCode::Resumed => resumed += 1,
@@ -1439,7 +1473,7 @@ impl Decoded {
         let mut s = String::new();
         let g = &self.geometry;
         let jf = &self.journal;
-        let _ = writeln!(s, "photon-review decode ({})", self.tool);
+        let _ = writeln!(s, "photon-review decode ({}, {})", self.tool, self.library);
         let _ = writeln!(
             s,
             "image      {} ({} bytes, sha256 {})",
