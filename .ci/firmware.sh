@@ -142,12 +142,15 @@ if (cd "$RP" && CARGO_TARGET_DIR="$PWD/target" cargo build -q --release --locked
         arm-none-eabi-size "$rp_elf" | sed 's/^/  /'
         # The flash routine runs while execute-in-place is off: it must be linked into RAM,
         # and the second-stage boot loader must sit at the start of the flash.
-        if arm-none-eabi-nm -C "$rp_elf" | grep -Eq '^2[0-9a-f]{7} t .*flash::rom_sequence$'; then
+        # nm's output is read whole first: `grep -q` stopping early would make nm fail with
+        # SIGPIPE, which pipefail turns into a false failure.
+        rp_syms=$(arm-none-eabi-nm -C "$rp_elf")
+        if grep -Eq '^2[0-9a-f]{7} t .*flash::rom_sequence$' <<<"$rp_syms"; then
             echo "  flash routine linked in RAM"
         else
             fail "RP2040 example: flash::rom_sequence is not linked in RAM"
         fi
-        if arm-none-eabi-nm -C "$rp_elf" | grep -Eq '^10000000 [rRdD] .*BOOT2_FIRMWARE$'; then
+        if grep -Eq '^10000000 [rRdD] .*BOOT2_FIRMWARE$' <<<"$rp_syms"; then
             echo "  boot2 at 0x10000000"
         else
             fail "RP2040 example: BOOT2_FIRMWARE is not at 0x10000000"

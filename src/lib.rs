@@ -171,9 +171,15 @@ pub mod prelude {
         FallProfile, IrradianceLimit, IrradianceWindow, LampReference, LightOffCheck, PartId,
         PartRecord, StopPolicy, StopReason,
     };
+    pub use crate::control::exposure::{
+        ExposureConfig, ExposureError, ExposureMonitor, SolarMonitor, WeightFactor,
+    };
+    pub use crate::control::plausibility::{Implausible, Plausibility, PlausibilityConfig};
     pub use crate::control::session::{
         ActiveLevel, DoseAmount, Fault, Outcome, Phase, Progress, Session, SessionConfig,
+        SessionError,
     };
+    pub use crate::control::PinError;
     pub use crate::dose::{Integrator, Rounding, SampleError};
     pub use crate::frontend::{AdcSpec, AmplifierRange, CodeFault, Coding, FrontEnd, Sample};
     pub use crate::irradiance::{Calibration, Meter, MeterConfig};

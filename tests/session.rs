@@ -381,3 +381,28 @@ fn enable_and_alarm_pins_may_have_different_error_types() {
     let (_, mut alarm) = s.release();
     alarm.done();
 }
+
+#[test]
+fn a_tolerance_of_zero_stops_cleanly_and_flags_only_light_after_the_stop() {
+    // Before: the stop sample itself passed target + 0 and every run ended "overexposed".
+    use hosttests::sim::SimPin;
+    let run = |after_stop: i32| {
+        let mut s = Session::new(meter(), config(0.05, 0.0), SimPin::new(), SimPin::new()).unwrap();
+        s.start().unwrap();
+        let mut t = 0;
+        while s.phase() == Phase::Exposing {
+            s.on_reading(&reading(1000, t)).unwrap();
+            t += 10;
+        }
+        assert_eq!(s.phase(), Phase::TargetMet);
+        for _ in 0..5 {
+            s.on_reading(&reading(after_stop, t)).unwrap();
+            t += 10;
+        }
+        s.phase()
+    };
+    // 1 W/m² (1000 codes) to 0.05 J/m², then dark: the run ends at its target.
+    assert_eq!(run(0), Phase::TargetMet);
+    // A shutter that leaks 10 mW/m² after the stop: an overexposure at tolerance 0.
+    assert_eq!(run(10), Phase::Overexposed);
+}

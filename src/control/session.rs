@@ -14,6 +14,12 @@
 //!                        └──────── any fault ─────────┴──────────────▶ Faulted(reason)
 //! ```
 //!
+//! The sample that first reaches the target stops the run (`TargetMet`), even when its last
+//! interval also passed target + tolerance: the light was commanded on until then. After the
+//! stop, a sample that is still past target + tolerance **and** still measures light (a net
+//! code above zero) is an overexposure: the shutter did not close. With a tolerance of 0, any
+//! light measured after the stop sample is an overexposure.
+//!
 //! Feed every reading to [`Session::on_reading`]; it returns the phase before and after.
 //! [`Session::progress`] gives the dose in every unit, the remaining dose and the estimated
 //! time to target (computed on demand, off the per-sample path).
@@ -381,13 +387,18 @@ impl<EN: OutputPin, AL: OutputPin> Session<EN, AL> {
                 return self.enter_fault(f).map(|()| Outcome::Faulted(f));
             }
         };
-        if step.crossed.contains(self.over_id) {
+        if before == Phase::Exposing {
+            // The sample that reaches the target stops the run, even if its last interval
+            // also passed target + tolerance (the light was commanded on until now).
+            if step.crossed.0 & (self.target_id.bit() | self.over_id.bit()) != 0 {
+                self.phase = Phase::TargetMet;
+                self.write_enable(false)?;
+            }
+        } else if step.crossed.contains(self.over_id) && net > 0 {
+            // After the stop: still past target + tolerance, and light still arriving.
             self.phase = Phase::Overexposed;
             self.write_enable(false)?;
             self.write_alarm(true)?;
-        } else if before == Phase::Exposing && step.crossed.contains(self.target_id) {
-            self.phase = Phase::TargetMet;
-            self.write_enable(false)?;
         }
         Ok(Outcome::Integrated {
             before,

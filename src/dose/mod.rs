@@ -447,7 +447,7 @@ impl Integrator {
     /// This is what a controller needs to anticipate a threshold in integers: with the last
     /// net code `n` held constant, the sum grows by `2·n` units per tick.
     #[must_use]
-    pub fn units_to_threshold(&self, id: ThresholdId) -> Option<i64> {
+    pub(crate) fn units_to_threshold(&self, id: ThresholdId) -> Option<i64> {
         self.thresholds
             .get(usize::from(id.0))
             .map(|t| t.limit.saturating_sub(self.segment))
@@ -456,7 +456,7 @@ impl Integrator {
     /// The amplifier range whose integer units the open segment (and every threshold limit)
     /// is counted in.
     #[must_use]
-    pub const fn segment_range(&self) -> RangeIndex {
+    pub(crate) const fn segment_range(&self) -> RangeIndex {
         self.segment_range
     }
 
