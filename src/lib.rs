@@ -157,6 +157,9 @@ pub mod irradiance;
 pub mod journal;
 pub mod photochem;
 pub mod references;
+
+/// This library's version (`CARGO_PKG_VERSION`), for reports that must name what they ran.
+pub const VERSION: &str = env!("CARGO_PKG_VERSION");
 pub mod spectral;
 
 #[cfg(test)]

@@ -1316,7 +1316,7 @@ fn analyse(cx: &Ctx<'_>, states: &[SectorState], m: Mounted) -> Result<Decoded, 
         decode_version: DECODE_VERSION,
         complete: true,
         tool: crate::TOOL.to_string(),
-        library: crate::LIBRARY.to_string(),
+        library: crate::library(),
         input: ImageInput {
             image_file: cx.file.to_string(),
             image_sha256: hex(&Sha256::digest(cx.image)),

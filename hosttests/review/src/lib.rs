@@ -37,6 +37,8 @@ pub use error::{Place, ReviewError};
 /// This tool's name and version, as reports name it (`photon-review 0.1.0`).
 pub const TOOL: &str = concat!("photon-review ", env!("CARGO_PKG_VERSION"));
 
-/// The photon-ledger library this tool is built with, as reports name it
-/// (`photon-ledger 0.1.0`): the pipeline and journal code every result comes from.
-pub const LIBRARY: &str = concat!("photon-ledger ", env!("PHOTON_LEDGER_VERSION"));
+/// The photon-ledger library this tool is built with, as reports name it.
+#[must_use]
+pub fn library() -> String {
+    format!("photon-ledger {}", photon_ledger::VERSION)
+}

@@ -682,7 +682,7 @@ impl Replayer {
             report_version: REPORT_VERSION,
             complete: true,
             tool: crate::TOOL.to_string(),
-            library: crate::LIBRARY.to_string(),
+            library: crate::library(),
             session_sha256: hex(&id.finalize()),
             input,
             run: cfg.labels.clone(),
