@@ -162,8 +162,8 @@ pub mod references;
 pub const VERSION: &str = env!("CARGO_PKG_VERSION");
 pub mod spectral;
 
-#[cfg(test)]
-mod test_support;
+#[cfg(any(test, feature = "_test"))]
+pub mod fixtures;
 
 /// The types most firmware needs, in one import.
 pub mod prelude {

@@ -2,35 +2,10 @@
 
 use photon_ledger::prelude::*;
 
-/// A one-range meter on which one net code is exactly `w_per_m2_per_code` W/m² at `tick_hz`.
-///
-/// 16-bit unipolar ADC with a 65.536 V reference (1 mV per code), 1 MΩ transimpedance
-/// (1 nA per code), certificate factor chosen to give the requested W/m² per code.
+/// A one-range meter on which one net code is exactly `w_per_m2_per_code` W/m² at `tick_hz`
+/// (the library's fixture, [`photon_ledger::fixtures::round_meter`]).
 pub fn round_meter(w_per_m2_per_code: f64, tick_hz: u32) -> Meter {
-    let fe = FrontEnd::new(
-        AdcSpec {
-            bits: 16,
-            reference: Voltage::from_v(65.536),
-            pga_gain: 1.0,
-            coding: Coding::Unipolar,
-            saturation_margin: 0,
-        },
-        &[AmplifierRange {
-            gain: Transimpedance::from_mohm(1.0),
-            dark_offset: 0,
-        }],
-    )
-    .expect("valid front end");
-    Meter::new(MeterConfig {
-        front_end: fe,
-        calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(
-            w_per_m2_per_code * 1e9,
-        )),
-        band: Band::Line(Wavelength::from_nm(365.0)),
-        tick_rate: TickRate::from_hz(tick_hz).expect("non-zero tick rate"),
-        sample_area: None,
-    })
-    .expect("valid meter")
+    photon_ledger::fixtures::round_meter(w_per_m2_per_code, tick_hz).expect("valid round meter")
 }
 
 /// Radiant exposure (J/m²) of a naive `f32` running sum of `n` equal steps of

@@ -5,7 +5,7 @@ use super::*;
 /// 1 W/m² per code in range 0, 10 W/m² per code in range 1, 1000 ticks/s.
 /// 1 W/m² per code in range 0, 10 W/m² per code in range 1, 1000 ticks/s.
 fn meter() -> Meter {
-    crate::test_support::two_range_meter(365.0)
+    crate::fixtures::two_range_meter(365.0).unwrap()
 }
 
 #[test]

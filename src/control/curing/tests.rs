@@ -55,7 +55,7 @@ impl InputPin for In {
 /// 1 W/m² per code in range 0, 10 W/m² per code in range 1, 1000 ticks/s (as in dose.rs).
 /// 1 W/m² per code in range 0, 10 W/m² per code in range 1, 1000 ticks/s.
 fn meter() -> Meter {
-    crate::test_support::two_range_meter(395.0)
+    crate::fixtures::two_range_meter(395.0).unwrap()
 }
 
 /// Target 10 000 J/m² (1000 mJ/cm²), tolerance 100 J/m², 200-tick dead time.
