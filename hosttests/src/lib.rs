@@ -7,6 +7,7 @@
 
 pub mod fixtures;
 pub mod flash;
+pub mod fuzzing;
 pub mod image;
 pub mod lamp_curing;
 pub mod sim;

@@ -14,8 +14,6 @@
 //! documented contracts (round trips, named errors, documented validity ranges), not against
 //! outside reference values; the seed records and images are invented test data.
 
-use std::sync::atomic::{AtomicU64, Ordering};
-
 use hosttests::fixtures::round_meter;
 use hosttests::flash::SimFlash;
 use photon_ledger::acquire::autorange::{AutorangeConfigError, AutorangeError};
@@ -38,47 +36,8 @@ use photon_ledger::photochem::units::PhotonFluxPerIrradiance;
 use photon_ledger::photochem::units::{Absorbance, ChemicalAmount, QuantumYield, Transmission};
 use photon_ledger::prelude::*;
 use proptest::prelude::*;
-use proptest::test_runner::{Config, TestRunner};
 
-/// Cases per target: `FUZZ_CASES` or the smoke default.
-fn cases(default: u32) -> u32 {
-    std::env::var("FUZZ_CASES")
-        .ok()
-        .and_then(|s| s.parse().ok())
-        .unwrap_or(default)
-}
-
-/// Run `test` on `strategy` for `cases(default)` cases (shrinking on failure) and print the
-/// number of executions.
-fn fuzz<S: Strategy>(
-    name: &str,
-    default: u32,
-    strategy: S,
-    test: impl Fn(S::Value) -> Result<(), TestCaseError>,
-) where
-    S::Value: std::fmt::Debug,
-{
-    let n = cases(default);
-    let runs = AtomicU64::new(0);
-    let mut runner = TestRunner::new(Config {
-        cases: n,
-        failure_persistence: None,
-        ..Config::default()
-    });
-    let t0 = std::time::Instant::now();
-    let result = runner.run(&strategy, |v| {
-        runs.fetch_add(1, Ordering::Relaxed);
-        test(v)
-    });
-    eprintln!(
-        "fuzz {name}: {} executions in {:.2} s",
-        runs.load(Ordering::Relaxed),
-        t0.elapsed().as_secs_f64()
-    );
-    if let Err(e) = result {
-        panic!("fuzz target {name} failed: {e}");
-    }
-}
+use hosttests::fuzzing::fuzz;
 
 /// Numbers that break careless arithmetic, mixed with ordinary ones.
 fn nasty_f64() -> impl Strategy<Value = f64> {

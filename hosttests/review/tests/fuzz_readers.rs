@@ -11,51 +11,11 @@
 //! The checks are against the tool's own documented contract (errors name the file), not
 //! against outside reference values; the mutated texts are invented test data.
 
-use std::sync::atomic::{AtomicU64, Ordering};
-
 use photon_review::config::{self as review_config, ReviewConfig};
 use photon_review::samples::SampleReader;
 use proptest::prelude::*;
-use proptest::test_runner::{Config, TestRunner};
 
-fn cases(default: u32) -> u32 {
-    std::env::var("FUZZ_CASES")
-        .ok()
-        .and_then(|s| s.parse().ok())
-        .unwrap_or(default)
-}
-
-/// Run `test` on `strategy` for `cases(default)` cases (shrinking on failure) and print the
-/// number of executions.
-fn fuzz<S: Strategy>(
-    name: &str,
-    default: u32,
-    strategy: S,
-    test: impl Fn(S::Value) -> Result<(), TestCaseError>,
-) where
-    S::Value: std::fmt::Debug,
-{
-    let n = cases(default);
-    let runs = AtomicU64::new(0);
-    let mut runner = TestRunner::new(Config {
-        cases: n,
-        failure_persistence: None,
-        ..Config::default()
-    });
-    let t0 = std::time::Instant::now();
-    let result = runner.run(&strategy, |v| {
-        runs.fetch_add(1, Ordering::Relaxed);
-        test(v)
-    });
-    eprintln!(
-        "fuzz {name}: {} executions in {:.2} s",
-        runs.load(Ordering::Relaxed),
-        t0.elapsed().as_secs_f64()
-    );
-    if let Err(e) = result {
-        panic!("fuzz target {name} failed: {e}");
-    }
-}
+use hosttests::fuzzing::fuzz;
 
 // ---------------------------------------------------------------------------------------
 // (d) Review tool readers.
