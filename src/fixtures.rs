@@ -23,6 +23,18 @@ pub enum FixtureError {
     Argument,
 }
 
+impl core::fmt::Display for FixtureError {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        match self {
+            Self::FrontEnd(e) => write!(f, "fixture front end: {e}"),
+            Self::Meter(e) => write!(f, "fixture meter: {e}"),
+            Self::Argument => f.write_str("fixture argument out of range"),
+        }
+    }
+}
+
+impl core::error::Error for FixtureError {}
+
 /// A meter on a 16-bit unipolar converter with a 65.536 V reference (1 mV per code), on which
 /// one net code in range `r` is exactly `w_per_m2_per_code[r]` W/m² (ranges from most to least
 /// sensitive), at `tick_hz` ticks per second, for `band`.

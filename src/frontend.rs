@@ -67,6 +67,7 @@ pub struct AmplifierRange {
 /// Why a front-end configuration was rejected.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
 pub enum FrontEndError {
     /// `bits` outside 8 ..= 24.
     Resolution,

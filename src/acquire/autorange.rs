@@ -37,6 +37,7 @@ pub struct AutorangeConfig {
 /// Why an autorange configuration was rejected.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
 pub enum AutorangeConfigError {
     /// Thresholds not finite, or not 0 < down < up ≤ 1.
     Thresholds,

@@ -107,6 +107,7 @@ pub struct PlausibilityConfig {
 /// Why a plausibility configuration was rejected.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
 pub enum PlausibilityConfigError {
     /// `stuck_samples` is 1 (every reading would be "stuck").
     StuckSamples,

@@ -80,6 +80,7 @@ pub struct SessionConfig {
 /// Why a session configuration was rejected.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
 pub enum SessionConfigError {
     /// The target is not finite or ≤ 0.
     Target,

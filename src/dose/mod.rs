@@ -120,6 +120,8 @@ pub enum SampleError {
     UnknownRange,
 }
 
+impl core::error::Error for SampleError {}
+
 impl core::fmt::Display for SampleError {
     fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
         match self {

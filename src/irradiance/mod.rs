@@ -38,6 +38,7 @@ pub enum Calibration {
 /// Why a calibration was rejected.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
 pub enum CalibrationError {
     /// Responsivity not finite or ≤ 0.
     Responsivity,
@@ -115,6 +116,7 @@ pub struct MeterConfig {
 /// Why a meter could not be built.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
 pub enum MeterError {
     /// The calibration is invalid.
     Calibration(CalibrationError),

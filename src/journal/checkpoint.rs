@@ -82,6 +82,7 @@ impl CheckpointConfig {
 /// Why a checkpoint configuration was rejected.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
 pub enum CheckpointConfigError {
     /// `interval_ticks` is not above `max_gap_ticks`, or is ≥ 2³¹.
     Interval,

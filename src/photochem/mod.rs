@@ -115,6 +115,7 @@ pub enum VolumeRole {
 /// Why a photochemistry input or computation was rejected.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
 pub enum PhotochemError {
     /// An absorbance (or absorbance change) is negative, NaN or infinite.
     Absorbance,

@@ -529,6 +529,8 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
                 range_span(n, true),
                 format!("ranges[{n}].dark_offset_codes"),
             ),
+            // A newer library's check: name the converter section.
+            _ => (raw.adc.span(), "adc".into()),
         };
         ctx.err(span, &key, e.to_string())
     })?;
@@ -635,6 +637,8 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
                     .map_or(raw.session.span(), |v| v.span()),
                 "session.sample_area_cm2",
             ),
+            // A newer library's check: name the calibration section.
+            _ => (raw.calibration.span(), "calibration"),
         };
         ctx.err(span, key, e.to_string())
     })?;
@@ -674,6 +678,8 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
                 }
             }
             SessionConfigError::MaxGap => (s.max_gap_ticks.span(), "session.max_gap_ticks"),
+            // A newer library's check: name the session section.
+            _ => (raw.session.span(), "session"),
         };
         let mut msg = e.to_string();
         if e == SessionConfigError::SampleAreaRequired {

@@ -219,6 +219,7 @@ pub struct CuringConfig {
 /// Why a curing configuration was rejected.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
 pub enum CuringConfigError {
     /// Target not finite or ≤ 0.
     Target,

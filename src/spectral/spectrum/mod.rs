@@ -607,6 +607,7 @@ pub enum Integral {
 /// Why a spectral configuration was rejected.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
 pub enum SpectralError {
     /// The line or LED source is invalid.
     Source(BandError),
