@@ -674,6 +674,12 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
                 }
             }
             SessionConfigError::MaxGap => (s.max_gap_ticks.span(), "session.max_gap_ticks"),
+            // The review configuration sets no milestones; these cannot occur.
+            SessionConfigError::Milestone
+            | SessionConfigError::MilestoneOrder
+            | SessionConfigError::MilestoneBeyondTarget
+            | SessionConfigError::TooManyMilestones
+            | SessionConfigError::NotReady => (s.target.span(), "session.target"),
         };
         let mut msg = e.to_string();
         if e == SessionConfigError::SampleAreaRequired {
