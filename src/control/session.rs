@@ -352,8 +352,14 @@ pub enum Milestones<'a> {
 /// The validated milestone series, in J/m².
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Plan {
-    List { levels: [f64; MAX_MILESTONES], len: u8 },
-    Step { step: f64, count: u32 },
+    List {
+        levels: [f64; MAX_MILESTONES],
+        len: u8,
+    },
+    Step {
+        step: f64,
+        count: u32,
+    },
 }
 
 impl Plan {
@@ -650,7 +656,8 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
                     prev = h;
                 }
                 // doses.len() ≤ MAX_MILESTONES = 12 (checked above).
-                let len = u8::try_from(doses.len()).map_err(|_| SessionConfigError::TooManyMilestones)?;
+                let len =
+                    u8::try_from(doses.len()).map_err(|_| SessionConfigError::TooManyMilestones)?;
                 (len > 0).then_some(Plan::List { levels, len })
             }
             Milestones::Every(step) => {
@@ -850,7 +857,11 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
         reached.map(|i| u16::try_from(i).unwrap_or(u16::MAX))
     }
 
-    fn begin_pause(&mut self, cause: PauseCause, now: Ticks) -> Result<(), SessionPinError<EN, AL>> {
+    fn begin_pause(
+        &mut self,
+        cause: PauseCause,
+        now: Ticks,
+    ) -> Result<(), SessionPinError<EN, AL>> {
         self.pause_open = Some((now, self.integrator.exposure().j_per_m2()));
         self.phase = Phase::Paused(cause);
         self.write_enable(false)
