@@ -36,11 +36,9 @@ fn pause_counts_leak_and_dark_time_and_resume_reaches_the_target() {
     for t in (0..=200).step_by(10) {
         s.on_reading(&reading(1000, t)).unwrap();
     }
-    assert_eq!(
-        s.pause(Ticks(200)).unwrap(),
-        Phase::Paused(PauseCause::Command)
-    );
+    assert_eq!(s.pause(Ticks(200)).unwrap(), Phase::Paused);
     assert!(s.is_paused());
+    assert_eq!(s.pause_cause(), Some(PauseCause::Command));
     // The shutter leaks 0.1 W/m². Trapezoids: 200→210 ms (1000 + 100)/2 codes × 10 ms =
     // 5.5 mJ/m², then 190 ms at 0.1 W/m² = 19 mJ/m²: 24.5 mJ/m² of leak.
     for t in (210..=400).step_by(10) {
@@ -48,8 +46,8 @@ fn pause_counts_leak_and_dark_time_and_resume_reaches_the_target() {
         assert!(matches!(
             o,
             Outcome::Integrated {
-                before: Phase::Paused(_),
-                after: Phase::Paused(_),
+                before: Phase::Paused,
+                after: Phase::Paused,
                 milestone: None
             }
         ));
@@ -129,7 +127,7 @@ fn leak_while_paused_can_complete_the_run() {
     assert_eq!(
         last,
         Some(Outcome::Integrated {
-            before: Phase::Paused(PauseCause::Command),
+            before: Phase::Paused,
             after: Phase::TargetMet,
             milestone: None
         })
@@ -363,14 +361,15 @@ fn open_interlock_pauses_and_only_an_explicit_resume_with_it_closed_resumes() {
     assert_eq!(
         o,
         Outcome::Integrated {
-            before: Phase::Paused(PauseCause::Interlock),
-            after: Phase::Paused(PauseCause::Interlock),
+            before: Phase::Paused,
+            after: Phase::Paused,
             milestone: None
         }
     );
     s.on_reading(&reading(0, 30)).unwrap();
     s.on_reading(&reading(0, 40)).unwrap();
-    assert_eq!(s.phase(), Phase::Paused(PauseCause::Interlock));
+    assert_eq!(s.phase(), Phase::Paused);
+    assert_eq!(s.pause_cause(), Some(PauseCause::Interlock));
     assert_eq!(
         s.resume(Ticks(45)).unwrap_err(),
         CommandError::Refused(Refusal::InterlockOpen)

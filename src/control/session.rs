@@ -13,7 +13,7 @@
 //!                      │    ▲                         ▲
 //!       pause() or door│    │resume() (door closed)   │ dose ≥ target (light leaking in)
 //!                      ▼    │                         │
-//!                      Paused(cause) ─────────────────┘
+//!                      Paused ─────────────────────────┘
 //!         any fault from any non-terminal phase ──────────────────▶ Faulted(reason)
 //! ```
 //!
@@ -188,9 +188,10 @@ pub enum Phase {
     Ready,
     /// Enable output active, dose accumulating towards the target.
     Exposing,
-    /// Paused: enable output inactive, dose still counted (a leak). [`Session::resume`]
-    /// returns to `Exposing`.
-    Paused(PauseCause),
+    /// Paused: enable output inactive, dose still counted (a leak); why:
+    /// [`Session::pause_cause`]. [`Session::resume`] returns to `Exposing`. (A unit variant,
+    /// so the phase stays a plain discriminant on the per-sample path.)
+    Paused,
     /// The target was reached; enable output inactive. Dose still counts (light that still
     /// arrives is reported).
     TargetMet,
@@ -442,6 +443,9 @@ pub struct Session<EN, AL, IL = NoInterlock> {
     unusable_run: u16,
     /// The open pause: when it began and the dose then (J/m²).
     pause_open: Option<(Ticks, f64)>,
+    pause_cause: PauseCause,
+    /// The armed milestone threshold's bit, 0 when none is armed.
+    milestone_bit: u8,
     pauses: u16,
     dark_ticks: u64,
     leak_j_per_m2: f64,
@@ -515,6 +519,8 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
             phase: Phase::Ready,
             unusable_run: 0,
             pause_open: None,
+            pause_cause: PauseCause::Command,
+            milestone_bit: 0,
             pauses: 0,
             dark_ticks: 0,
             leak_j_per_m2: 0.0,
@@ -552,7 +558,7 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
     }
 
     /// Pause the exposure at tick `now`: the enable output goes inactive and the phase is
-    /// [`Phase::Paused`]`(`[`PauseCause::Command`]`)`. Readings keep being integrated; light
+    /// [`Phase::Paused`] ([`PauseCause::Command`]). Readings keep being integrated; light
     /// that still arrives is reported as the pause's leak.
     ///
     /// # Errors
@@ -576,9 +582,10 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
     /// interlock cannot be read and [`CommandError::Pin`] if an output cannot be written (the
     /// session is then faulted).
     pub fn resume(&mut self, now: Ticks) -> Result<PauseSummary, SessionCommandError<EN, AL, IL>> {
-        let Phase::Paused(cause) = self.phase else {
+        if self.phase != Phase::Paused {
             return Err(CommandError::Refused(Refusal::NotPaused));
-        };
+        }
+        let cause = self.pause_cause;
         match self.interlock.is_closed() {
             Ok(true) => {}
             Ok(false) => return Err(CommandError::Refused(Refusal::InterlockOpen)),
@@ -600,7 +607,7 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
     /// [`CommandError::Interlock`] if the interlock cannot be read (faulted, safe state);
     /// [`CommandError::Pin`] if an output cannot be written.
     pub fn poll_interlock(&mut self, now: Ticks) -> Result<Phase, SessionCommandError<EN, AL, IL>> {
-        if !(self.phase == Phase::Exposing || matches!(self.phase, Phase::Paused(_))) {
+        if !(self.phase == Phase::Exposing || matches!(self.phase, Phase::Paused)) {
             return Ok(self.phase);
         }
         match self.interlock.is_closed() {
@@ -679,6 +686,7 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
                 self.integrator
                     .set_threshold(id, RadiantExposure::from_j_per_m2(level));
                 self.watch |= id.bit();
+                self.milestone_bit = id.bit();
             }
             (Some(level), None) => {
                 let id = self
@@ -687,8 +695,12 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
                     .map_err(|_| SessionConfigError::TooManyMilestones)?;
                 self.milestone_id = Some(id);
                 self.watch |= id.bit();
+                self.milestone_bit = id.bit();
             }
-            (None, Some(id)) => self.watch &= !id.bit(),
+            (None, Some(id)) => {
+                self.watch &= !id.bit();
+                self.milestone_bit = 0;
+            }
             (None, None) => {}
         }
         Ok(())
@@ -773,8 +785,16 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
         };
         if before != Phase::TargetMet {
             // Exposing or paused: target, target + tolerance or a milestone reached.
-            if step.crossed.0 & self.watch != 0 {
-                return self.on_threshold(before, step.crossed, reading.at);
+            let hit = step.crossed.0 & self.watch;
+            if hit != 0 {
+                if hit & self.milestone_bit != 0 || before != Phase::Exposing {
+                    return self.on_threshold(before, step.crossed, reading.at);
+                }
+                // Exposing and the target (or target + tolerance) reached: the sample that
+                // reaches the target stops the run, even if its last interval also passed
+                // target + tolerance (the light was commanded on until now).
+                self.phase = Phase::TargetMet;
+                self.write_enable(false)?;
             }
         } else if step.crossed.contains(self.over_id) && net > 0 {
             // After the stop: still past target + tolerance, and light still arriving.
@@ -789,7 +809,8 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
         })
     }
 
-    /// A watched threshold was crossed while exposing or paused (off the steady path).
+    /// A milestone reached, or a watched threshold crossed while paused (off the steady and
+    /// the target path).
     #[inline(never)]
     fn on_threshold(
         &mut self,
@@ -807,8 +828,8 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
         // passed target + tolerance (the light was commanded on until now). While paused, the
         // leak completed the run.
         if crossed.0 & (self.target_id.bit() | self.over_id.bit()) != 0 {
-            if let Phase::Paused(cause) = self.phase {
-                let _ = self.end_pause(cause, at);
+            if self.phase == Phase::Paused {
+                let _ = self.end_pause(self.pause_cause, at);
             }
             self.phase = Phase::TargetMet;
             self.write_enable(false)?;
@@ -850,6 +871,7 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
                 }
                 None => {
                     self.watch &= !id.bit();
+                    self.milestone_bit = 0;
                     break;
                 }
             }
@@ -863,7 +885,8 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
         now: Ticks,
     ) -> Result<(), SessionPinError<EN, AL>> {
         self.pause_open = Some((now, self.integrator.exposure().j_per_m2()));
-        self.phase = Phase::Paused(cause);
+        self.pause_cause = cause;
+        self.phase = Phase::Paused;
         self.write_enable(false)
     }
 
@@ -914,7 +937,7 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
     pub fn set_dark_offset(&mut self, r: RangeIndex, dark_offset: i32) -> bool {
         if matches!(
             self.phase,
-            Phase::Exposing | Phase::TargetMet | Phase::Paused(_)
+            Phase::Exposing | Phase::TargetMet | Phase::Paused
         ) {
             return false;
         }
@@ -1002,10 +1025,20 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
         (self.enable, self.alarm, self.interlock)
     }
 
+    /// Why the run is paused ([`Phase::Paused`]); `None` in any other phase.
+    #[must_use]
+    pub const fn pause_cause(&self) -> Option<PauseCause> {
+        if matches!(self.phase, Phase::Paused) {
+            Some(self.pause_cause)
+        } else {
+            None
+        }
+    }
+
     /// Whether the run is paused (by command or by the interlock).
     #[must_use]
     pub const fn is_paused(&self) -> bool {
-        matches!(self.phase, Phase::Paused(_))
+        matches!(self.phase, Phase::Paused)
     }
 
     fn enter_fault(&mut self, reason: Fault) -> Result<(), SessionPinError<EN, AL>> {

@@ -615,7 +615,7 @@ impl Replayer {
         let h = p.exposure.j_per_m2();
         let phase = self.session.phase();
         let (stop_reason, fault) = match phase {
-            Phase::Ready | Phase::Exposing | Phase::Paused(_) => ("end_of_data", None),
+            Phase::Ready | Phase::Exposing | Phase::Paused => ("end_of_data", None),
             Phase::TargetMet => ("target_met", None),
             Phase::Overexposed => ("overexposed", None),
             Phase::Faulted(f) => ("fault", Some(fault_name(f).to_string())),
@@ -757,7 +757,7 @@ pub fn phase_name(p: Phase) -> &'static str {
     match p {
         Phase::Ready => "ready",
         Phase::Exposing => "exposing",
-        Phase::Paused(_) => "paused",
+        Phase::Paused => "paused",
         Phase::TargetMet => "target_met",
         Phase::Overexposed => "overexposed",
         Phase::Faulted(_) => "faulted",
