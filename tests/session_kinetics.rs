@@ -256,6 +256,42 @@ fn milestones_every_step_in_photons() {
 }
 
 #[test]
+fn a_fine_step_reports_every_milestone_exactly_once_in_order() {
+    let mut en = PinMock::new(&[
+        Pin::set(State::Low),
+        Pin::set(State::High),
+        Pin::set(State::Low),
+    ]);
+    let mut al = PinMock::new(&[Pin::set(State::Low)]);
+    let mut s = Session::new(meter(), config(1.0, 0.1), en.clone(), al.clone()).unwrap();
+    // 100 milestones of 10 mJ/m²; 4 W/m² gives 40 mJ/m² per 10 ms sample, so each sample
+    // passes four milestones (the step estimate and the exact threshold check together).
+    s.set_milestones(Milestones::Every(h(0.01))).unwrap();
+    s.start().unwrap();
+    let mut reported = Vec::new();
+    let mut t = 0;
+    while s.phase() == Phase::Exposing {
+        if let Outcome::Integrated {
+            milestone: Some(i), ..
+        } = s.on_reading(&reading(4000, t)).unwrap()
+        {
+            reported.push(i);
+            // Every milestone up to i is reached, the next one is not.
+            let e = s.progress().exposure.j_per_m2();
+            assert!(e >= 0.01 * f64::from(i + 1) * (1.0 - 1e-12), "{i} {e}");
+            assert!(e < 0.01 * f64::from(i + 2), "{i} {e}");
+        }
+        t += 10;
+    }
+    // Exposure after the sample at t ms is 4·t mJ/m²: milestone 4k − 1 at t = 10k ms.
+    let expected: Vec<u16> = (1..=25).map(|k| 4 * k - 1).collect();
+    assert_eq!(reported, expected);
+    assert_eq!(s.progress().milestones_reached, 100);
+    en.done();
+    al.done();
+}
+
+#[test]
 fn bad_milestones_are_named_config_errors_and_change_nothing() {
     let en = PinMock::new(&[Pin::set(State::Low), Pin::set(State::High)]);
     let al = PinMock::new(&[Pin::set(State::Low)]);

@@ -849,12 +849,29 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
         // Bounded: at most the plan's length (≤ MAX_STEP_MILESTONES) iterations, and one or
         // two in practice (a step plan starts from an estimate).
         if let Plan::Step { step, .. } = plan {
+            // One less than the estimate, so rounding never skips a milestone not reached;
+            // the loop below settles the rest exactly.
             let done = libm::floor(self.integrator.exposure().j_per_m2() / step) - 1.0;
             if done.is_finite() && done > f64::from(self.next_milestone) {
-                // done < count ≤ MAX_STEP_MILESTONES, so the conversion is exact.
-                let skip = (done as u32).min(plan.len());
+                // Capped at the plan's length (≤ MAX_STEP_MILESTONES), so the cast is exact.
+                let skip = if done >= f64::from(plan.len()) {
+                    plan.len()
+                } else {
+                    done as u32
+                };
                 reached = skip.checked_sub(1);
                 self.next_milestone = skip;
+                match plan.level(skip) {
+                    Some(level) => {
+                        self.integrator
+                            .set_threshold(id, RadiantExposure::from_j_per_m2(level));
+                    }
+                    None => {
+                        self.watch &= !id.bit();
+                        self.milestone_bit = 0;
+                        return reached.map(|i| u16::try_from(i).unwrap_or(u16::MAX));
+                    }
+                }
             }
         }
         loop {
