@@ -11,10 +11,11 @@
 //! Run: `cargo run --example field_day`
 
 use hosttests::sim::{Rng, SimPin};
-use photon_ledger::control::exposure::display::{dose_line, solar_line};
+use photon_ledger::control::exposure::display::{dose_line, solar_line, status_line};
 use photon_ledger::control::exposure::{
     ExposureConfig, ExposureMonitor, SamplingPlan, SolarMonitor, WeightFactor,
 };
+use photon_ledger::irradiance::calibration::Validity;
 use photon_ledger::prelude::*;
 use photon_ledger::spectral::weighting::uv_hazard;
 
@@ -182,7 +183,15 @@ fn main() -> Result<(), String> {
             let (uvi, cat) = solar.uv_index_reported();
             let l1 = dose_line(hazard.fraction_used(), hazard.time_left());
             let l2 = solar_line(uvi, cat, solar.day_sed());
-            println!("{}  |{:<16}|  |{:<16}|", clock(t), l1.as_str(), l2.as_str());
+            // The demo's meter: calibration due in 21 days (invented for the demo).
+            let l3 = status_line(Validity::Valid { days_left: 21 }, hazard.alarm_latched());
+            println!(
+                "{}  |{:<16}|  |{:<16}|  |{:<16}|",
+                clock(t),
+                l1.as_str(),
+                l2.as_str(),
+                l3.as_str()
+            );
         }
         let uvc_now = hazard.effective_irradiance();
         let sun_now = Irradiance::from_w_per_m2(solar.uv_index_now().value() / 40.0);

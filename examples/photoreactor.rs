@@ -1,10 +1,16 @@
-//! Main job: a simulated benchtop photoreactor run, dosed in moles of photons.
+//! Main job: a simulated benchtop photoreactor kinetics run, dosed in moles of photons.
 //!
 //! Scenario (invented for the demo): a 405 nm LED (FWHM 14 nm) lights a 4.0 cm² vessel window;
 //! its output droops 12 % as it warms. A photodiode beside the window feeds a two-range
 //! transimpedance amplifier and a 12-bit ADC. The run stops at 20 µmol of photons delivered to
 //! the window. The tick counter (1 kHz) starts just before it wraps, as a long-running
 //! controller's would.
+//!
+//! The kinetics protocol: a milestone every 20 % of the target (the chemist notes the time
+//! and dose of each); the run pauses twice for an aliquot (at 25 % and 60 % of the target, 20 s
+//! dark each, resumed by the operator); the enclosure door is opened once (the interlock
+//! pauses the run; the operator closes it and resumes). Light that still arrives while paused
+//! (the LED's fall time) is counted and reported as each pause's leak.
 //!
 //! The code below is shaped like firmware: it polls the ADC through the library's trait, lets
 //! the autoranger move the range switch, feeds the session, and drives the LED from the
@@ -13,6 +19,7 @@
 //! Run: `cargo run --example photoreactor`
 
 use hosttests::sim::{Adc, Amplifier, Photodiode, SimPin, SimSensor, WarmingLed};
+use photon_ledger::control::session::{InterlockPin, Milestones, PauseSummary};
 use photon_ledger::prelude::*;
 
 const TICK_HZ: u32 = 1_000;
@@ -85,8 +92,20 @@ fn main() -> Result<(), String> {
     };
     let enable = SimPin::new();
     let alarm = SimPin::new();
-    let mut session =
-        Session::new(meter, config, enable.clone(), alarm.clone()).map_err(|e| format!("{e:?}"))?;
+    // The door switch reads high while the door is closed.
+    let door = SimPin::new();
+    door.0.set(true);
+    let mut session = Session::with_interlock(
+        meter,
+        config,
+        enable.clone(),
+        alarm.clone(),
+        InterlockPin::new(door.clone(), ActiveLevel::High),
+    )
+    .map_err(|e| format!("{e:?}"))?;
+    session
+        .set_milestones(Milestones::EveryFraction(0.2))
+        .map_err(|e| e.to_string())?;
     let mut autorange = Autorange::new(
         [SimPin::new()],
         session.meter().front_end(),
@@ -113,6 +132,16 @@ fn main() -> Result<(), String> {
     let mut truth_j_per_m2 = 0.0; // the simulation's own fine integral, for comparison
     let mut stopped_at_ms = None;
     let mut next_print = 30_000;
+    // The protocol: aliquots at these fractions of the target, 20 s dark each; the door is
+    // opened at 150 s for 6 s and the operator resumes 4 s after closing it.
+    let mut aliquots = [0.25, 0.60].into_iter().peekable();
+    const ALIQUOT_DARK_MS: u32 = 20_000;
+    const DOOR_OPEN_MS: u32 = 150_000;
+    const DOOR_CLOSE_MS: u32 = 156_000;
+    const DOOR_RESUME_MS: u32 = 160_000;
+    let mut resume_at: Option<u32> = None;
+    let mut milestones: Vec<(u32, f64)> = Vec::new(); // (ms, µmol)
+    let mut pauses: Vec<PauseSummary> = Vec::new();
     session.start().map_err(|e| format!("{e:?}"))?;
     sensor.led.command(enable.is_high(), 0.0);
     loop {
@@ -135,7 +164,35 @@ fn main() -> Result<(), String> {
             .observe(&reading, session.meter().front_end())
             .map_err(|e| format!("{e:?}"))?;
         if decision != Decision::Settling {
-            session.on_reading(&reading).map_err(|e| format!("{e:?}"))?;
+            let outcome = session.on_reading(&reading).map_err(|e| format!("{e:?}"))?;
+            if let Outcome::Integrated {
+                milestone: Some(_), ..
+            } = outcome
+            {
+                let umol = session.progress().photons.map_or(0.0, |n| n.umol());
+                milestones.push((ms, umol));
+            }
+        }
+        // The operator: aliquots, the door, and resuming.
+        if session.phase() == Phase::Exposing
+            && aliquots
+                .peek()
+                .is_some_and(|&f| session.progress().fraction >= f)
+        {
+            aliquots.next();
+            session.pause(now).map_err(|e| format!("{e:?}"))?;
+            resume_at = Some(ms + ALIQUOT_DARK_MS);
+        }
+        if ms == DOOR_OPEN_MS {
+            door.0.set(false);
+        }
+        if ms == DOOR_CLOSE_MS {
+            door.0.set(true);
+            resume_at = Some(DOOR_RESUME_MS);
+        }
+        if resume_at.is_some_and(|r| ms >= r) && session.is_paused() {
+            resume_at = None;
+            pauses.push(session.resume(now).map_err(|e| format!("{e:?}"))?);
         }
         // The LED driver follows the enable output.
         sensor.led.command(enable.is_high(), sensor.t_s);
@@ -156,7 +213,9 @@ fn main() -> Result<(), String> {
                     .map_or_else(|| "-".to_string(), |s| format!("{:.1} s", s.s()))
             );
         }
-        if stopped_at_ms.is_none() && !session.phase().is_exposing() {
+        // Stopped: the target reached, or a terminal phase (a pause is not a stop).
+        let stopped = session.phase() == Phase::TargetMet || session.phase().is_terminal();
+        if stopped_at_ms.is_none() && stopped {
             stopped_at_ms = Some(ms);
         }
         // Keep measuring 2 s after the stop: light still arriving is dose.
@@ -179,7 +238,7 @@ fn main() -> Result<(), String> {
     println!("--- summary ---");
     println!("stop reason        {:?}", session.phase());
     println!(
-        "duration           {:.2} s to stop",
+        "duration           {:.2} s to stop (pauses included)",
         f64::from(stopped_at_ms.unwrap_or(ms)) / 1000.0
     );
     println!(
@@ -201,6 +260,35 @@ fn main() -> Result<(), String> {
         "meter vs simulated truth {:.4} µmol: {:+.3} %",
         truth_umol,
         (photons.umol() / truth_umol - 1.0) * 100.0
+    );
+    let mol_per_j = session.meter().band().mol_per_j();
+    let area_m2 = 4.0e-4;
+    let umol = |h: RadiantExposure| h.j_per_m2() * mol_per_j * area_m2 * 1e6;
+    for (k, (at, n)) in milestones.iter().enumerate() {
+        println!(
+            "milestone {}        {:>3} % reached at t={:>6.2} s, dose {:.4} µmol",
+            k + 1,
+            (k + 1) * 20,
+            f64::from(*at) / 1000.0,
+            n
+        );
+    }
+    for (k, pz) in pauses.iter().enumerate() {
+        println!(
+            "pause {} ({:?}) at t={:>6.2} s, dose {:.4} µmol, dark {:.2} s, leak {:.5} µmol",
+            k + 1,
+            pz.cause,
+            f64::from(pz.started.wrapping_since(Ticks(start_tick))) / 1000.0,
+            umol(pz.dose_at_pause),
+            pz.dark.s(),
+            umol(pz.leak)
+        );
+    }
+    println!(
+        "paused in total    {} pauses, {:.2} s dark, leak {:.5} µmol",
+        p.pauses,
+        p.dark_time.s(),
+        umol(p.leak)
     );
     println!(
         "outputs            enable {}, alarm {}",

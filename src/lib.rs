@@ -56,7 +56,8 @@
 //! with, and the controllers, each a policy over the one integral:
 //! [`session`](control::session) is the basic dose-controlled exposure
 //! ([`Session`](control::session::Session): target in J/m², mol/m² or mol, tolerance, phases,
-//! outputs, progress and time to target); [`curing`](control::curing) is the curing-station
+//! outputs, pause/resume with the leak counted, dose milestones, an optional interlock,
+//! progress and time to target); [`curing`](control::curing) is the curing-station
 //! controller (actuator-lag anticipation, irradiance window, interlock monitor, light-off
 //! check, lamp ageing, a record per part); [`exposure`](control::exposure) is the personal
 //! exposure monitor (exact rolling window, warnings with hysteresis, latched alarm, UV index,

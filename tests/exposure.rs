@@ -5,11 +5,12 @@ mod common;
 use common::{meter, reading};
 use embedded_hal_mock::eh1::digital::{Mock as PinMock, State, Transaction as Pin};
 use hosttests::sim::SimPin;
-use photon_ledger::control::exposure::display::{dose_line, solar_line};
+use photon_ledger::control::exposure::display::{dose_line, solar_line, status_line};
 use photon_ledger::control::exposure::{
     ExposureConfig, ExposureConfigError, ExposureError, ExposureMonitor, ReadingIssue,
     RollingWindow, SolarMonitor, WeightFactor,
 };
+use photon_ledger::irradiance::calibration::Validity;
 use photon_ledger::prelude::*;
 use photon_ledger::spectral::weighting::{
     TimeLimit, UvIndexCategory, UvaEyeRule, WeightedIrradiance, WeightingKind,
@@ -413,15 +414,46 @@ fn display_lines_fit_and_read_right() {
     );
     assert_eq!(
         solar_line(7, UvIndexCategory::High, 1.23).as_str(),
-        "UVI  7 HIGH1.3S"
+        "UVI 7 HI  1.3SED"
     );
     assert_eq!(
         solar_line(11, UvIndexCategory::Extreme, 0.0).as_str(),
-        "UVI 11 EXT 0.0S"
+        "UVI11 EXT 0.0SED"
+    );
+    assert_eq!(
+        solar_line(3, UvIndexCategory::Moderate, 1e9).as_str(),
+        "UVI 3 MOD99.9SED"
+    );
+    assert_eq!(
+        status_line(Validity::Valid { days_left: 200 }, false).as_str(),
+        "CAL OK         "
+    );
+    assert_eq!(
+        status_line(Validity::Valid { days_left: 12 }, true).as_str(),
+        "CALDUE 12d ACK!"
+    );
+    assert_eq!(
+        status_line(Validity::Valid { days_left: 30 }, false).as_str(),
+        "CALDUE 30d     "
+    );
+    assert_eq!(
+        status_line(Validity::Expired { days_over: 3 }, true).as_str(),
+        "CAL EXPIRD ACK!"
+    );
+    assert_eq!(
+        status_line(Validity::NotYetValid { days_early: 1 }, false).as_str(),
+        "CAL DATE?      "
     );
     for l in [
         dose_line(9.99, Some(Seconds::from_s(1e9))),
         solar_line(u32::MAX, UvIndexCategory::Extreme, 1e9),
+        status_line(
+            Validity::Valid {
+                days_left: u32::MAX,
+            },
+            true,
+        ),
+        status_line(Validity::Valid { days_left: 0 }, true),
     ] {
         assert!(l.len() <= 16);
     }

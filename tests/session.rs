@@ -77,6 +77,7 @@ fn stuck_shutter_raises_the_overexposure_alarm() {
         if let Outcome::Integrated {
             before: Phase::TargetMet,
             after: Phase::Overexposed,
+            ..
         } = o
         {
             over_at = Some(t);

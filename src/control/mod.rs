@@ -24,7 +24,7 @@
 //!
 //! The pins may have different error types (a GPIO enable beside an expander alarm).
 
-use embedded_hal::digital::OutputPin;
+use embedded_hal::digital::{InputPin, OutputPin};
 
 pub mod curing;
 pub mod exposure;
@@ -83,6 +83,62 @@ impl<EN: core::fmt::Debug, AL: core::fmt::Debug> core::fmt::Display for PinError
 }
 
 impl<EN: core::fmt::Debug, AL: core::fmt::Debug> core::error::Error for PinError<EN, AL> {}
+
+/// A door or guard interlock as a controller reads it: closed (light may be on) or open.
+///
+/// Implemented by [`InterlockPin`] (an embedded-hal input pin and its closed level) and by
+/// [`NoInterlock`] (always closed, `Error = Infallible`), so a controller generic over it costs
+/// nothing when there is no interlock: the read and its checks compile away.
+pub trait InterlockInput {
+    /// The input's own error type.
+    type Error: core::fmt::Debug;
+    /// Whether the interlock is closed now.
+    ///
+    /// # Errors
+    /// The input's own error; controllers treat it as a fault (safe state).
+    fn is_closed(&mut self) -> Result<bool, Self::Error>;
+}
+
+/// No interlock: always closed, never fails. The default of
+/// [`Session`](crate::control::session::Session).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct NoInterlock;
+
+impl InterlockInput for NoInterlock {
+    type Error = core::convert::Infallible;
+    #[inline(always)]
+    fn is_closed(&mut self) -> Result<bool, Self::Error> {
+        Ok(true)
+    }
+}
+
+/// An interlock on an embedded-hal input pin: closed when the pin reads `closed_level`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct InterlockPin<P> {
+    pin: P,
+    closed_level: ActiveLevel,
+}
+
+impl<P: InputPin> InterlockPin<P> {
+    /// An interlock that is closed while `pin` reads `closed_level`.
+    pub const fn new(pin: P, closed_level: ActiveLevel) -> Self {
+        Self { pin, closed_level }
+    }
+    /// Give the pin back.
+    pub fn release(self) -> P {
+        self.pin
+    }
+}
+
+impl<P: InputPin> InterlockInput for InterlockPin<P> {
+    type Error = P::Error;
+    #[inline]
+    fn is_closed(&mut self) -> Result<bool, Self::Error> {
+        Ok(self.closed_level.is_active(self.pin.is_high()?))
+    }
+}
 
 /// Enter the safe state: enable inactive first, then alarm active; see the
 /// [module documentation](self) for the order and the retry.

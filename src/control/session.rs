@@ -10,9 +10,31 @@
 //!
 //! ```text
 //!  Ready ──start()──▶ Exposing ──dose ≥ target──▶ TargetMet ──dose ≥ target+tol──▶ Overexposed
-//!                        │                            │
-//!                        └──────── any fault ─────────┴──────────────▶ Faulted(reason)
+//!                      │    ▲                         ▲
+//!       pause() or door│    │resume() (door closed)   │ dose ≥ target (light leaking in)
+//!                      ▼    │                         │
+//!                      Paused ─────────────────────────┘
+//!         any fault from any non-terminal phase ──────────────────▶ Faulted(reason)
 //! ```
+//!
+//! **Pause and resume.** [`Session::pause`] (an aliquot taken, a lamp check) drives the enable
+//! output inactive and enters [`Phase::Paused`]; [`Session::resume`] drives it active again.
+//! Integration never stops: light that still arrives while paused (a shutter that leaks, room
+//! light through an open port) is counted in the dose, reported as the pause's leak
+//! ([`PauseSummary`], [`Progress::leak`]) and can complete the run (TargetMet) on its own.
+//!
+//! **Interlock.** [`Session::with_interlock`] adds a door or guard input
+//! ([`InterlockInput`]): while exposing, an open interlock pauses the run
+//! ([`PauseCause::Interlock`]); closing it again does **not** resume — only an explicit
+//! [`Session::resume`] does, and only with the interlock closed (the same rule as the curing
+//! controller). A failed interlock read drives the safe state ([`Fault::InterlockPin`]).
+//! [`Session::new`] has no interlock ([`NoInterlock`], which compiles away).
+//!
+//! **Milestones.** [`Session::set_milestones`] watches a series of doses below the target
+//! (a list, or every step); the reading that reaches one reports it in
+//! [`Outcome::Integrated::milestone`]. One integrator threshold is re-armed for the next
+//! milestone each time one is reached, so milestones are exact in the integer scale like the
+//! target and cost nothing per sample until one is reached.
 //!
 //! The sample that first reaches the target stops the run (`TargetMet`), even when its last
 //! interval also passed target + tolerance: the light was commanded on until then. After the
@@ -34,9 +56,10 @@
 use embedded_hal::digital::{ErrorType, OutputPin};
 
 use crate::control::drive;
+pub use crate::control::{InterlockInput, InterlockPin, NoInterlock};
 
 use crate::acquire::reading::{RangeIndex, Reading, Ticks};
-use crate::dose::{Integrator, Rounding, SampleError, ThresholdId};
+use crate::dose::{Crossed, Integrator, Rounding, SampleError, ThresholdId};
 use crate::frontend::{CodeFault, Sample};
 use crate::irradiance::Meter;
 use crate::quantity::{
@@ -90,6 +113,17 @@ pub enum SessionConfigError {
     SampleAreaRequired,
     /// `max_gap_ticks` is 0 or ≥ 2³¹.
     MaxGap,
+    /// A milestone dose is not finite or ≤ 0.
+    Milestone,
+    /// Milestones are not strictly increasing.
+    MilestoneOrder,
+    /// A milestone lies beyond the target.
+    MilestoneBeyondTarget,
+    /// More milestones than [`MAX_MILESTONES`] (a list), or a step giving more than
+    /// [`MAX_STEP_MILESTONES`] milestones up to the target.
+    TooManyMilestones,
+    /// Milestones can only be set before [`Session::start`].
+    NotReady,
 }
 
 impl core::fmt::Display for SessionConfigError {
@@ -99,6 +133,11 @@ impl core::fmt::Display for SessionConfigError {
             Self::Tolerance => "tolerance must be finite and >= 0",
             Self::SampleAreaRequired => "a dose in photons needs the illuminated sample area",
             Self::MaxGap => "maximum gap must be 1 to 2^31-1 ticks",
+            Self::Milestone => "a milestone dose must be finite and > 0",
+            Self::MilestoneOrder => "milestones must be strictly increasing",
+            Self::MilestoneBeyondTarget => "a milestone lies beyond the target",
+            Self::TooManyMilestones => "too many milestones",
+            Self::NotReady => "milestones can only be set before the session starts",
         })
     }
 }
@@ -128,6 +167,18 @@ pub enum Fault {
     Implausible(crate::control::plausibility::Implausible),
     /// The firmware aborted the run.
     Aborted,
+    /// The interlock input could not be read (see [`Session::with_interlock`]).
+    InterlockPin,
+}
+
+/// Why a session is paused.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum PauseCause {
+    /// [`Session::pause`] was called.
+    Command,
+    /// The interlock opened while exposing.
+    Interlock,
 }
 
 /// The phase of a session.
@@ -138,6 +189,10 @@ pub enum Phase {
     Ready,
     /// Enable output active, dose accumulating towards the target.
     Exposing,
+    /// Paused: enable output inactive, dose still counted (a leak); why:
+    /// [`Session::pause_cause`]. [`Session::resume`] returns to `Exposing`. (A unit variant,
+    /// so the phase stays a plain discriminant on the per-sample path.)
+    Paused,
     /// The target was reached; enable output inactive. Dose still counts (light that still
     /// arrives is reported).
     TargetMet,
@@ -170,6 +225,9 @@ pub enum Outcome {
         before: Phase,
         /// Phase after the reading.
         after: Phase,
+        /// The milestone this reading reached (its index from 0 in the series set by
+        /// [`Session::set_milestones`]); when one reading passes several, the last of them.
+        milestone: Option<u16>,
     },
     /// Not integrated and not a fault (a repeated timestamp, a tolerated saturated code, or a
     /// reading after the session ended).
@@ -220,6 +278,113 @@ impl<EE: core::fmt::Debug, AE: core::fmt::Debug> core::fmt::Display for SessionE
 
 impl<EE: core::fmt::Debug, AE: core::fmt::Debug> core::error::Error for SessionError<EE, AE> {}
 
+/// Why [`Session::pause`], [`Session::resume`] or [`Session::poll_interlock`] did not do what
+/// was asked. `EE`, `AE`, `IE`: the enable, alarm and interlock error types.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum CommandError<EE, AE, IE> {
+    /// Refused; nothing changed.
+    Refused(Refusal),
+    /// An output could not be written; the session is faulted.
+    Pin(PinError<EE, AE>),
+    /// The interlock could not be read; the session is faulted (safe state).
+    Interlock(IE),
+}
+
+impl<EE, AE, IE> From<PinError<EE, AE>> for CommandError<EE, AE, IE> {
+    fn from(e: PinError<EE, AE>) -> Self {
+        Self::Pin(e)
+    }
+}
+
+/// Why a command was refused (nothing changed).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Refusal {
+    /// [`Session::pause`] outside [`Phase::Exposing`].
+    NotExposing,
+    /// [`Session::resume`] outside [`Phase::Paused`].
+    NotPaused,
+    /// [`Session::resume`] with the interlock open.
+    InterlockOpen,
+}
+
+/// The command error of a session with enable `EN`, alarm `AL` and interlock `IL`.
+pub type SessionCommandError<EN, AL, IL> =
+    CommandError<<EN as ErrorType>::Error, <AL as ErrorType>::Error, <IL as InterlockInput>::Error>;
+
+/// One completed pause, returned by [`Session::resume`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct PauseSummary {
+    /// Why it paused.
+    pub cause: PauseCause,
+    /// When it paused (the `now` given to [`Session::pause`], or the reading that found the
+    /// interlock open).
+    pub started: Ticks,
+    /// Dark (paused) time, ticks: the `now` given to resume minus `started`, wrapping.
+    pub dark_ticks: u32,
+    /// Dark time in seconds at the meter's tick rate.
+    pub dark: Seconds,
+    /// Dose received when the pause began (including any preload).
+    pub dose_at_pause: RadiantExposure,
+    /// Dose received while paused (light that leaked in); ≥ 0.
+    pub leak: RadiantExposure,
+}
+
+/// Most milestones in a list ([`Milestones::Doses`]).
+pub const MAX_MILESTONES: usize = 12;
+/// Most milestones a step ([`Milestones::Every`], [`Milestones::EveryFraction`]) may give up
+/// to the target.
+pub const MAX_STEP_MILESTONES: u32 = 10_000;
+
+/// Dose milestones for [`Session::set_milestones`]; each must lie at or below the target.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Milestones<'a> {
+    /// No milestones.
+    None,
+    /// These doses, strictly increasing, > 0, at most [`MAX_MILESTONES`].
+    Doses(&'a [DoseAmount]),
+    /// Every `step` (> 0) up to and including the target (k · step for k = 1, 2, …).
+    Every(DoseAmount),
+    /// Every `fraction` of the target (0 < fraction ≤ 1; 0.1 = every 10 %).
+    EveryFraction(f64),
+}
+
+/// The validated milestone series, in J/m².
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Plan {
+    List {
+        levels: [f64; MAX_MILESTONES],
+        len: u8,
+    },
+    Step {
+        step: f64,
+        count: u32,
+    },
+}
+
+impl Plan {
+    fn len(&self) -> u32 {
+        match self {
+            Self::List { len, .. } => u32::from(*len),
+            Self::Step { count, .. } => *count,
+        }
+    }
+    fn level(&self, i: u32) -> Option<f64> {
+        match self {
+            Self::List { levels, len } => {
+                if i < u32::from(*len) {
+                    levels.get(i as usize).copied()
+                } else {
+                    None
+                }
+            }
+            Self::Step { step, count } => (i < *count).then(|| step * f64::from(i + 1)),
+        }
+    }
+}
+
 /// The pin error of a session with enable pin `EN` and alarm pin `AL`.
 pub type SessionPinError<EN, AL> = PinError<<EN as ErrorType>::Error, <AL as ErrorType>::Error>;
 
@@ -249,25 +414,50 @@ pub struct Progress {
     pub photon_irradiance: PhotonIrradiance,
     /// Remaining ÷ current irradiance, while exposing and the irradiance is > 0.
     pub time_to_target: Option<Seconds>,
+    /// Completed pauses so far.
+    pub pauses: u16,
+    /// Dark time of the completed pauses (from each `pause` to its `resume`).
+    pub dark_time: Seconds,
+    /// Dose received while paused, completed pauses and the current one; ≥ 0.
+    pub leak: RadiantExposure,
+    /// Milestones reached so far.
+    pub milestones_reached: u16,
 }
 
 /// A dose-controlled exposure. See the [module documentation](self).
 #[derive(Debug)]
-pub struct Session<EN, AL> {
+pub struct Session<EN, AL, IL = NoInterlock> {
     meter: Meter,
     integrator: Integrator,
     target: RadiantExposure,
     target_id: ThresholdId,
     over_id: ThresholdId,
+    /// Thresholds whose crossing needs work while exposing or paused: target, target +
+    /// tolerance and the armed milestone (one byte, so the steady sample tests one mask).
+    watch: u8,
+    milestone_id: Option<ThresholdId>,
+    plan: Option<Plan>,
+    /// Index of the next milestone to reach.
+    next_milestone: u32,
     config: SessionConfig,
     phase: Phase,
     unusable_run: u16,
+    /// The open pause: when it began and the dose then (J/m²).
+    pause_open: Option<(Ticks, f64)>,
+    pause_cause: PauseCause,
+    /// The armed milestone threshold's bit, 0 when none is armed.
+    milestone_bit: u8,
+    pauses: u16,
+    dark_ticks: u64,
+    leak_j_per_m2: f64,
     enable: EN,
     alarm: AL,
+    interlock: IL,
 }
 
-impl<EN: OutputPin, AL: OutputPin> Session<EN, AL> {
-    /// Validate the configuration and set both outputs inactive.
+impl<EN: OutputPin, AL: OutputPin> Session<EN, AL, NoInterlock> {
+    /// Validate the configuration and set both outputs inactive. No interlock (see
+    /// [`Session::with_interlock`]).
     ///
     /// # Errors
     /// [`SessionError::Config`] for an invalid configuration (no pin written);
@@ -277,6 +467,26 @@ impl<EN: OutputPin, AL: OutputPin> Session<EN, AL> {
         config: SessionConfig,
         enable: EN,
         alarm: AL,
+    ) -> Result<Self, SessionError<EN::Error, AL::Error>> {
+        Self::with_interlock(meter, config, enable, alarm, NoInterlock)
+    }
+}
+
+impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
+    /// [`Session::new`] with an interlock (for example [`InterlockPin`]): while exposing, an
+    /// open interlock pauses the run; only [`Session::resume`] with the interlock closed
+    /// resumes it. The interlock is read at [`start`](Self::start), at every reading while
+    /// exposing or paused, at [`resume`](Self::resume) and at
+    /// [`poll_interlock`](Self::poll_interlock).
+    ///
+    /// # Errors
+    /// As [`Session::new`].
+    pub fn with_interlock(
+        meter: Meter,
+        config: SessionConfig,
+        enable: EN,
+        alarm: AL,
+        interlock: IL,
     ) -> Result<Self, SessionError<EN::Error, AL::Error>> {
         let target = to_exposure(&meter, config.target)?;
         if !(target.j_per_m2().is_finite() && target.j_per_m2() > 0.0) {
@@ -302,11 +512,22 @@ impl<EN: OutputPin, AL: OutputPin> Session<EN, AL> {
             target,
             target_id,
             over_id,
+            watch: target_id.bit() | over_id.bit(),
+            milestone_id: None,
+            plan: None,
+            next_milestone: 0,
             config,
             phase: Phase::Ready,
             unusable_run: 0,
+            pause_open: None,
+            pause_cause: PauseCause::Command,
+            milestone_bit: 0,
+            pauses: 0,
+            dark_ticks: 0,
+            leak_j_per_m2: 0.0,
             enable,
             alarm,
+            interlock,
         };
         s.write_enable(false).map_err(SessionError::Pin)?;
         s.write_alarm(false).map_err(SessionError::Pin)?;
@@ -315,16 +536,175 @@ impl<EN: OutputPin, AL: OutputPin> Session<EN, AL> {
 
     /// Start exposing: the enable output goes active.
     ///
-    /// Does nothing unless the phase is [`Phase::Ready`].
+    /// Does nothing unless the phase is [`Phase::Ready`]. With an interlock, an open
+    /// interlock leaves the session in `Ready` (returned), and a failed read faults it
+    /// (`Faulted(InterlockPin)` returned; the safe state is driven).
     ///
     /// # Errors
-    /// [`PinError`] if the enable output cannot be written (the session is then faulted).
+    /// [`PinError`] if an output cannot be written (the session is then faulted).
     pub fn start(&mut self) -> Result<Phase, SessionPinError<EN, AL>> {
         if self.phase == Phase::Ready {
+            match self.interlock.is_closed() {
+                Ok(true) => {}
+                Ok(false) => return Ok(self.phase),
+                Err(_) => {
+                    self.enter_fault(Fault::InterlockPin)?;
+                    return Ok(self.phase);
+                }
+            }
             self.phase = Phase::Exposing;
             self.write_enable(true)?;
         }
         Ok(self.phase)
+    }
+
+    /// Pause the exposure at tick `now`: the enable output goes inactive and the phase is
+    /// [`Phase::Paused`] ([`PauseCause::Command`]). Readings keep being integrated; light
+    /// that still arrives is reported as the pause's leak.
+    ///
+    /// # Errors
+    /// [`CommandError::Refused`]`(`[`Refusal::NotExposing`]`)` outside `Exposing` (nothing
+    /// changed); [`CommandError::Pin`] if the enable output cannot be written (faulted).
+    pub fn pause(&mut self, now: Ticks) -> Result<Phase, SessionCommandError<EN, AL, IL>> {
+        if self.phase != Phase::Exposing {
+            return Err(CommandError::Refused(Refusal::NotExposing));
+        }
+        self.begin_pause(PauseCause::Command, now)?;
+        Ok(self.phase)
+    }
+
+    /// Resume a paused exposure at tick `now`: the interlock must read closed; the enable
+    /// output goes active again and the phase is [`Phase::Exposing`]. Returns the pause just
+    /// ended.
+    ///
+    /// # Errors
+    /// [`CommandError::Refused`] with [`Refusal::NotPaused`] outside `Paused`, or
+    /// [`Refusal::InterlockOpen`] (nothing changed); [`CommandError::Interlock`] if the
+    /// interlock cannot be read and [`CommandError::Pin`] if an output cannot be written (the
+    /// session is then faulted).
+    pub fn resume(&mut self, now: Ticks) -> Result<PauseSummary, SessionCommandError<EN, AL, IL>> {
+        if self.phase != Phase::Paused {
+            return Err(CommandError::Refused(Refusal::NotPaused));
+        }
+        let cause = self.pause_cause;
+        match self.interlock.is_closed() {
+            Ok(true) => {}
+            Ok(false) => return Err(CommandError::Refused(Refusal::InterlockOpen)),
+            Err(e) => {
+                self.enter_fault(Fault::InterlockPin)?;
+                return Err(CommandError::Interlock(e));
+            }
+        }
+        let summary = self.end_pause(cause, now);
+        self.phase = Phase::Exposing;
+        self.write_enable(true)?;
+        Ok(summary)
+    }
+
+    /// Read the interlock outside a reading (from its pin-change interrupt or the main loop)
+    /// at tick `now`: an open interlock pauses an exposing run. Returns the phase.
+    ///
+    /// # Errors
+    /// [`CommandError::Interlock`] if the interlock cannot be read (faulted, safe state);
+    /// [`CommandError::Pin`] if an output cannot be written.
+    pub fn poll_interlock(&mut self, now: Ticks) -> Result<Phase, SessionCommandError<EN, AL, IL>> {
+        if !(self.phase == Phase::Exposing || matches!(self.phase, Phase::Paused)) {
+            return Ok(self.phase);
+        }
+        match self.interlock.is_closed() {
+            Ok(true) => {}
+            Ok(false) => {
+                if self.phase == Phase::Exposing {
+                    self.begin_pause(PauseCause::Interlock, now)?;
+                }
+            }
+            Err(e) => {
+                self.enter_fault(Fault::InterlockPin)?;
+                return Err(CommandError::Interlock(e));
+            }
+        }
+        Ok(self.phase)
+    }
+
+    /// Watch dose milestones below the target (replacing any earlier series). Only before
+    /// [`start`](Self::start).
+    ///
+    /// # Errors
+    /// [`SessionConfigError::NotReady`] after start; [`SessionConfigError::Milestone`],
+    /// [`MilestoneOrder`](SessionConfigError::MilestoneOrder),
+    /// [`MilestoneBeyondTarget`](SessionConfigError::MilestoneBeyondTarget),
+    /// [`TooManyMilestones`](SessionConfigError::TooManyMilestones),
+    /// [`SampleAreaRequired`](SessionConfigError::SampleAreaRequired) for bad input. Nothing
+    /// changes on an error.
+    pub fn set_milestones(&mut self, milestones: Milestones<'_>) -> Result<(), SessionConfigError> {
+        if self.phase != Phase::Ready {
+            return Err(SessionConfigError::NotReady);
+        }
+        let target = self.target.j_per_m2();
+        let plan = match milestones {
+            Milestones::None => None,
+            Milestones::Doses(doses) => {
+                if doses.len() > MAX_MILESTONES {
+                    return Err(SessionConfigError::TooManyMilestones);
+                }
+                let mut levels = [0.0; MAX_MILESTONES];
+                let mut prev = 0.0;
+                for (slot, d) in levels.iter_mut().zip(doses.iter()) {
+                    let h = to_exposure(&self.meter, *d)?.j_per_m2();
+                    if !(h.is_finite() && h > 0.0) {
+                        return Err(SessionConfigError::Milestone);
+                    }
+                    if h <= prev {
+                        return Err(SessionConfigError::MilestoneOrder);
+                    }
+                    if h > target {
+                        return Err(SessionConfigError::MilestoneBeyondTarget);
+                    }
+                    *slot = h;
+                    prev = h;
+                }
+                // doses.len() ≤ MAX_MILESTONES = 12 (checked above).
+                let len =
+                    u8::try_from(doses.len()).map_err(|_| SessionConfigError::TooManyMilestones)?;
+                (len > 0).then_some(Plan::List { levels, len })
+            }
+            Milestones::Every(step) => {
+                let h = to_exposure(&self.meter, step)?.j_per_m2();
+                Some(step_plan(h, target)?)
+            }
+            Milestones::EveryFraction(f) => {
+                if !(f.is_finite() && f > 0.0 && f <= 1.0) {
+                    return Err(SessionConfigError::Milestone);
+                }
+                Some(step_plan(f * target, target)?)
+            }
+        };
+        self.plan = plan;
+        self.next_milestone = 0;
+        let first = plan.and_then(|p| p.level(0));
+        match (first, self.milestone_id) {
+            (Some(level), Some(id)) => {
+                self.integrator
+                    .set_threshold(id, RadiantExposure::from_j_per_m2(level));
+                self.watch |= id.bit();
+                self.milestone_bit = id.bit();
+            }
+            (Some(level), None) => {
+                let id = self
+                    .integrator
+                    .add_threshold(RadiantExposure::from_j_per_m2(level), Rounding::NotBefore)
+                    .map_err(|_| SessionConfigError::TooManyMilestones)?;
+                self.milestone_id = Some(id);
+                self.watch |= id.bit();
+                self.milestone_bit = id.bit();
+            }
+            (None, Some(id)) => {
+                self.watch &= !id.bit();
+                self.milestone_bit = 0;
+            }
+            (None, None) => {}
+        }
+        Ok(())
     }
 
     /// Feed one reading.
@@ -354,10 +734,26 @@ impl<EN: OutputPin, AL: OutputPin> Session<EN, AL> {
         reading: &Reading,
         net: Result<i32, CodeFault>,
     ) -> Result<Outcome, SessionPinError<EN, AL>> {
-        let before = self.phase;
-        if matches!(before, Phase::Ready) || before.is_terminal() {
+        if matches!(self.phase, Phase::Ready) || self.phase.is_terminal() {
             return Ok(Outcome::Ignored(Ignored::NotRunning));
         }
+        // Compiles away without an interlock (NoInterlock always reads closed).
+        if self.phase != Phase::TargetMet {
+            match self.interlock.is_closed() {
+                Ok(true) => {}
+                Ok(false) => {
+                    if self.phase == Phase::Exposing {
+                        self.begin_pause(PauseCause::Interlock, reading.at)?;
+                    }
+                }
+                Err(_) => {
+                    return self
+                        .enter_fault(Fault::InterlockPin)
+                        .map(|()| Outcome::Faulted(Fault::InterlockPin));
+                }
+            }
+        }
+        let before = self.phase;
         let net = match net {
             Ok(n) => n,
             Err(f @ (CodeFault::SaturatedHigh | CodeFault::SaturatedLow)) => {
@@ -388,10 +784,16 @@ impl<EN: OutputPin, AL: OutputPin> Session<EN, AL> {
                 return self.enter_fault(f).map(|()| Outcome::Faulted(f));
             }
         };
-        if before == Phase::Exposing {
-            // The sample that reaches the target stops the run, even if its last interval
-            // also passed target + tolerance (the light was commanded on until now).
-            if step.crossed.0 & (self.target_id.bit() | self.over_id.bit()) != 0 {
+        if before != Phase::TargetMet {
+            // Exposing or paused: target, target + tolerance or a milestone reached.
+            let hit = step.crossed.0 & self.watch;
+            if hit != 0 {
+                if hit & self.milestone_bit != 0 || before != Phase::Exposing {
+                    return self.on_threshold(before, step.crossed, reading.at);
+                }
+                // Exposing and the target (or target + tolerance) reached: the sample that
+                // reaches the target stops the run, even if its last interval also passed
+                // target + tolerance (the light was commanded on until now).
                 self.phase = Phase::TargetMet;
                 self.write_enable(false)?;
             }
@@ -404,7 +806,123 @@ impl<EN: OutputPin, AL: OutputPin> Session<EN, AL> {
         Ok(Outcome::Integrated {
             before,
             after: self.phase,
+            milestone: None,
         })
+    }
+
+    /// A milestone reached, or a watched threshold crossed while paused (off the steady and
+    /// the target path).
+    #[inline(never)]
+    fn on_threshold(
+        &mut self,
+        before: Phase,
+        crossed: Crossed,
+        at: Ticks,
+    ) -> Result<Outcome, SessionPinError<EN, AL>> {
+        let mut milestone = None;
+        if let Some(id) = self.milestone_id {
+            if crossed.contains(id) && self.watch & id.bit() != 0 {
+                milestone = self.advance_milestones(id);
+            }
+        }
+        // The sample that reaches the target stops the run, even if its last interval also
+        // passed target + tolerance (the light was commanded on until now). While paused, the
+        // leak completed the run.
+        if crossed.0 & (self.target_id.bit() | self.over_id.bit()) != 0 {
+            if self.phase == Phase::Paused {
+                let _ = self.end_pause(self.pause_cause, at);
+            }
+            self.phase = Phase::TargetMet;
+            self.write_enable(false)?;
+        }
+        Ok(Outcome::Integrated {
+            before,
+            after: self.phase,
+            milestone,
+        })
+    }
+
+    /// Milestone threshold `id` fired: move it to the first milestone not yet reached (or
+    /// stop watching it); returns the index of the last milestone reached.
+    fn advance_milestones(&mut self, id: ThresholdId) -> Option<u16> {
+        let plan = self.plan?;
+        let mut reached = None;
+        // Bounded: at most the plan's length (≤ MAX_STEP_MILESTONES) iterations, and one or
+        // two in practice (a step plan starts from an estimate).
+        if let Plan::Step { step, .. } = plan {
+            // One less than the estimate, so rounding never skips a milestone not reached;
+            // the loop below settles the rest exactly.
+            let done = libm::floor(self.integrator.exposure().j_per_m2() / step) - 1.0;
+            if done.is_finite() && done > f64::from(self.next_milestone) {
+                // Capped at the plan's length (≤ MAX_STEP_MILESTONES), so the cast is exact.
+                let skip = if done >= f64::from(plan.len()) {
+                    plan.len()
+                } else {
+                    done as u32
+                };
+                reached = skip.checked_sub(1);
+                self.next_milestone = skip;
+                match plan.level(skip) {
+                    Some(level) => {
+                        self.integrator
+                            .set_threshold(id, RadiantExposure::from_j_per_m2(level));
+                    }
+                    None => {
+                        self.watch &= !id.bit();
+                        self.milestone_bit = 0;
+                        return reached.map(|i| u16::try_from(i).unwrap_or(u16::MAX));
+                    }
+                }
+            }
+        }
+        loop {
+            let crossed = self.integrator.crossed().contains(id);
+            if !crossed {
+                break;
+            }
+            reached = Some(self.next_milestone);
+            self.next_milestone = self.next_milestone.saturating_add(1);
+            match plan.level(self.next_milestone) {
+                Some(level) => {
+                    self.integrator
+                        .set_threshold(id, RadiantExposure::from_j_per_m2(level));
+                }
+                None => {
+                    self.watch &= !id.bit();
+                    self.milestone_bit = 0;
+                    break;
+                }
+            }
+        }
+        reached.map(|i| u16::try_from(i).unwrap_or(u16::MAX))
+    }
+
+    fn begin_pause(
+        &mut self,
+        cause: PauseCause,
+        now: Ticks,
+    ) -> Result<(), SessionPinError<EN, AL>> {
+        self.pause_open = Some((now, self.integrator.exposure().j_per_m2()));
+        self.pause_cause = cause;
+        self.phase = Phase::Paused;
+        self.write_enable(false)
+    }
+
+    fn end_pause(&mut self, cause: PauseCause, now: Ticks) -> PauseSummary {
+        let (started, at_pause) = self.pause_open.take().unwrap_or((now, 0.0));
+        let leak = (self.integrator.exposure().j_per_m2() - at_pause).max(0.0);
+        let dark_ticks = now.wrapping_since(started);
+        self.pauses = self.pauses.saturating_add(1);
+        self.dark_ticks = self.dark_ticks.saturating_add(u64::from(dark_ticks));
+        self.leak_j_per_m2 += leak;
+        PauseSummary {
+            cause,
+            started,
+            dark_ticks,
+            dark: Seconds::from_s(self.meter.tick_rate().ticks_to_s(dark_ticks)),
+            dose_at_pause: RadiantExposure::from_j_per_m2(at_pause),
+            leak: RadiantExposure::from_j_per_m2(leak),
+        }
     }
 
     /// Enter the safe state for a reason found outside the session (an ADC bus error, a
@@ -435,7 +953,10 @@ impl<EN: OutputPin, AL: OutputPin> Session<EN, AL> {
     /// never corrected with two offsets; returns `false` and changes nothing otherwise, or if
     /// the range does not exist or the offset is outside the code range.
     pub fn set_dark_offset(&mut self, r: RangeIndex, dark_offset: i32) -> bool {
-        if self.phase == Phase::Exposing || self.phase == Phase::TargetMet {
+        if matches!(
+            self.phase,
+            Phase::Exposing | Phase::TargetMet | Phase::Paused
+        ) {
             return false;
         }
         self.meter.front_end_mut().set_dark_offset(r, dark_offset)
@@ -480,6 +1001,9 @@ impl<EN: OutputPin, AL: OutputPin> Session<EN, AL> {
             .last()
             .map_or(Irradiance::ZERO, |l| self.meter.irradiance(l.net, l.range));
         let remaining = self.target - exposure;
+        let open_leak = self
+            .pause_open
+            .map_or(0.0, |(_, h)| (exposure.j_per_m2() - h).max(0.0));
         let time_to_target = if self.phase.is_exposing() && irradiance.w_per_m2() > 0.0 {
             Some(Seconds::from_s(
                 remaining.j_per_m2().max(0.0) / irradiance.w_per_m2(),
@@ -498,15 +1022,45 @@ impl<EN: OutputPin, AL: OutputPin> Session<EN, AL> {
             irradiance,
             photon_irradiance: self.meter.photon_irradiance(irradiance),
             time_to_target,
+            pauses: self.pauses,
+            dark_time: Seconds::from_s(
+                self.dark_ticks as f64 / f64::from(self.meter.tick_rate().hz()),
+            ),
+            leak: RadiantExposure::from_j_per_m2(self.leak_j_per_m2 + open_leak),
+            milestones_reached: u16::try_from(self.next_milestone).unwrap_or(u16::MAX),
         }
     }
 
-    /// Give the pins back. The caller is responsible for their state afterwards.
+    /// Give the output pins back (and drop the interlock; see
+    /// [`release_all`](Self::release_all)). The caller is responsible for their state
+    /// afterwards.
     pub fn release(self) -> (EN, AL) {
         (self.enable, self.alarm)
     }
 
+    /// Give the output pins and the interlock back.
+    pub fn release_all(self) -> (EN, AL, IL) {
+        (self.enable, self.alarm, self.interlock)
+    }
+
+    /// Why the run is paused ([`Phase::Paused`]); `None` in any other phase.
+    #[must_use]
+    pub const fn pause_cause(&self) -> Option<PauseCause> {
+        if matches!(self.phase, Phase::Paused) {
+            Some(self.pause_cause)
+        } else {
+            None
+        }
+    }
+
+    /// Whether the run is paused (by command or by the interlock).
+    #[must_use]
+    pub const fn is_paused(&self) -> bool {
+        matches!(self.phase, Phase::Paused)
+    }
+
     fn enter_fault(&mut self, reason: Fault) -> Result<(), SessionPinError<EN, AL>> {
+        self.pause_open = None;
         self.phase = Phase::Faulted(reason);
         // The shared safe-state sequence: enable inactive first, alarm even if that failed.
         let r = crate::control::safe_state(
@@ -546,6 +1100,27 @@ impl<EN: OutputPin, AL: OutputPin> Session<EN, AL> {
         }
         r.map_err(PinError::Alarm)
     }
+}
+
+/// A step plan: `step` J/m² up to `target` J/m².
+fn step_plan(step: f64, target: f64) -> Result<Plan, SessionConfigError> {
+    if !(step.is_finite() && step > 0.0) {
+        return Err(SessionConfigError::Milestone);
+    }
+    if step > target {
+        return Err(SessionConfigError::MilestoneBeyondTarget);
+    }
+    // k · step ≤ target, with the same relative slack as the integrator's exact ties, so
+    // "every 20 %" includes the target itself.
+    let n = libm::floor(target / step * (1.0 + 16.0 * f64::EPSILON));
+    if !(n >= 1.0 && n <= f64::from(MAX_STEP_MILESTONES)) {
+        return Err(SessionConfigError::TooManyMilestones);
+    }
+    // 1 ≤ n ≤ MAX_STEP_MILESTONES: exact.
+    Ok(Plan::Step {
+        step,
+        count: n as u32,
+    })
 }
 
 /// Convert a dose in any unit to radiant exposure for this meter.

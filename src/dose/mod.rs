@@ -253,6 +253,20 @@ impl Integrator {
         Ok(ThresholdId(id))
     }
 
+    /// Move threshold `id` to a new `level` (its rounding is kept), for a watcher that re-arms
+    /// one threshold for the next of a series of levels (dose milestones) instead of holding
+    /// one threshold per level. The limit is converted as exactly as by
+    /// [`add_threshold`](Self::add_threshold) and the crossed set is refreshed. Returns `false`
+    /// and changes nothing for an unknown handle.
+    pub fn set_threshold(&mut self, id: ThresholdId, level: RadiantExposure) -> bool {
+        match self.thresholds.get_mut(usize::from(id.0)) {
+            Some(t) => t.level_j_per_m2 = level.j_per_m2(),
+            None => return false,
+        }
+        self.recompute_limits();
+        true
+    }
+
     /// Stop watching every threshold.
     pub fn clear_thresholds(&mut self) {
         self.thresholds.clear();

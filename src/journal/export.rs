@@ -195,6 +195,7 @@ pub fn fault_name(f: FaultCode) -> &'static str {
         FaultCode::Aborted => "aborted",
         FaultCode::Storage => "storage",
         FaultCode::Implausible => "implausible",
+        FaultCode::InterlockPin => "interlock-pin",
         FaultCode::Other(_) => "other",
     }
 }

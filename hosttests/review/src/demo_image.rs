@@ -172,7 +172,7 @@ fn run_session(
         let outcome = session.on_reading(&reading).map_err(other)?;
         let h = session.integrator().exposure();
         match outcome {
-            Outcome::Integrated { before, after } => {
+            Outcome::Integrated { before, after, .. } => {
                 let net = session.meter().front_end().net_code(&reading).unwrap_or(0);
                 let e = session.meter().irradiance(net, reading.range);
                 cp.observe(e);

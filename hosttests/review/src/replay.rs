@@ -410,7 +410,7 @@ impl Replayer {
             Err(PinError::Enable(never) | PinError::Alarm(never)) => match never {},
         };
         match outcome {
-            Outcome::Integrated { before, after } => {
+            Outcome::Integrated { before, after, .. } => {
                 self.integrated += 1;
                 self.in_unusable_run = false;
                 if let Some(last) = self.session.integrator().last() {
@@ -615,7 +615,7 @@ impl Replayer {
         let h = p.exposure.j_per_m2();
         let phase = self.session.phase();
         let (stop_reason, fault) = match phase {
-            Phase::Ready | Phase::Exposing => ("end_of_data", None),
+            Phase::Ready | Phase::Exposing | Phase::Paused => ("end_of_data", None),
             Phase::TargetMet => ("target_met", None),
             Phase::Overexposed => ("overexposed", None),
             Phase::Faulted(f) => ("fault", Some(fault_name(f).to_string())),
@@ -757,6 +757,7 @@ pub fn phase_name(p: Phase) -> &'static str {
     match p {
         Phase::Ready => "ready",
         Phase::Exposing => "exposing",
+        Phase::Paused => "paused",
         Phase::TargetMet => "target_met",
         Phase::Overexposed => "overexposed",
         Phase::Faulted(_) => "faulted",
@@ -774,6 +775,7 @@ pub fn fault_name(f: Fault) -> &'static str {
         Fault::Sensor => "sensor",
         Fault::Aborted => "aborted",
         Fault::Implausible(_) => "implausible",
+        Fault::InterlockPin => "interlock_pin",
     }
 }
 

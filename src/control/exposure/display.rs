@@ -1,7 +1,19 @@
 //! Status lines for a small character display (16 columns), formatted with integers only.
+//!
+//! Every field carries its unit, and no dose unit can be read as a time: time is written
+//! `3h07m` / `2m05s`, the dose limit as a percentage (`%`), the solar dose in `SED` (never a
+//! bare `S`), calibration days with `d`. The layouts, column by column:
+//!
+//! ```text
+//!  0123456789012345
+//!  DOSE  43% 3h07m     dose_line:   percent of the limit used, time left (or STOP, --)
+//!  UVI 7 HI  1.3SED    solar_line:  UV index, category, day's dose in SED
+//!  CAL OK     ACK!     status_line: calibration state, acknowledge pending
+//! ```
 
 use core::fmt::Write;
 
+use crate::irradiance::calibration::Validity;
 use crate::quantity::Seconds;
 use crate::spectral::weighting::UvIndexCategory;
 
@@ -108,15 +120,16 @@ pub fn dose_line(fraction_used: f64, time_left: Option<Seconds>) -> Line {
     s
 }
 
-/// `"UVI  7 HIGH 1.3S"`: reported UV index, category, day's dose in SED (one decimal,
-/// rounded up).
+/// `"UVI 7 HI  1.3SED"`: reported UV index (0 ..= 99, capped), category (`LOW`, `MOD`, `HI`,
+/// `VHI`, `EXT`), the day's dose in standard erythema doses (one decimal, rounded up, capped
+/// at 99.9) with its unit `SED`.
 #[must_use]
 pub fn solar_line(uvi: u32, category: UvIndexCategory, day_sed: f64) -> Line {
     let mut s = Line::new();
     let cat = match category {
         UvIndexCategory::Low => "LOW",
         UvIndexCategory::Moderate => "MOD",
-        UvIndexCategory::High => "HIGH",
+        UvIndexCategory::High => "HI",
         UvIndexCategory::VeryHigh => "VHI",
         UvIndexCategory::Extreme => "EXT",
     };
@@ -129,6 +142,37 @@ pub fn solar_line(uvi: u32, category: UvIndexCategory, day_sed: f64) -> Line {
         tenths as u32
     };
     let uvi = uvi.min(99);
-    let _ = write!(s, "UVI{uvi:>3} {cat:<4}{}.{}S", tenths / 10, tenths % 10);
+    let _ = write!(
+        s,
+        "UVI{uvi:>2} {cat:<3}{:>2}.{}SED",
+        tenths / 10,
+        tenths % 10
+    );
+    s
+}
+
+/// Days before the due day from which [`status_line`] shows the days left instead of `OK`.
+pub const CALIBRATION_WARN_DAYS: u32 = 30;
+
+/// `"CAL OK     ACK!"`: the calibration's date state and whether an alarm waits for the
+/// wearer's acknowledgement.
+///
+/// Calibration field (10 columns): `CAL OK` (more than [`CALIBRATION_WARN_DAYS`] days
+/// left), `CALDUE 12d` (due in 12 days), `CAL EXPIRD` (on or after the due day: the meter
+/// must be recalibrated), `CAL DATE?` (today is before the calibration day: the clock or the
+/// record is wrong). Then a space and `ACK!` while an acknowledgement is pending (blank
+/// otherwise).
+#[must_use]
+pub fn status_line(calibration: Validity, ack_pending: bool) -> Line {
+    let mut s = Line::new();
+    let _ = match calibration {
+        Validity::Valid { days_left } if days_left > CALIBRATION_WARN_DAYS => {
+            write!(s, "{:<10}", "CAL OK")
+        }
+        Validity::Valid { days_left } => write!(s, "CALDUE{days_left:>3}d"),
+        Validity::Expired { .. } => write!(s, "{:<10}", "CAL EXPIRD"),
+        Validity::NotYetValid { .. } => write!(s, "{:<10}", "CAL DATE?"),
+    };
+    s.push_str(if ack_pending { " ACK!" } else { "     " });
     s
 }

@@ -531,6 +531,8 @@ pub enum FaultCode {
     /// A plausibility check failed (9); the event detail names the check
     /// ([`crate::control::plausibility::Implausible::code`]).
     Implausible,
+    /// The interlock input could not be read (10).
+    InterlockPin,
     /// A reason code this version does not name (1..=255 other than the above; 0 reserved).
     Other(u8),
 }
@@ -549,6 +551,7 @@ impl FaultCode {
             Self::Aborted => 7,
             Self::Storage => 8,
             Self::Implausible => 9,
+            Self::InterlockPin => 10,
             Self::Other(c) => c,
         }
     }
@@ -565,6 +568,7 @@ impl FaultCode {
             7 => Self::Aborted,
             8 => Self::Storage,
             9 => Self::Implausible,
+            10 => Self::InterlockPin,
             c => Self::Other(c),
         }
     }
@@ -580,6 +584,7 @@ impl FaultCode {
             Fault::Sensor => (Self::Sensor, 0),
             Fault::Aborted => (Self::Aborted, 0),
             Fault::Implausible(i) => (Self::Implausible, i.code()),
+            Fault::InterlockPin => (Self::InterlockPin, 0),
         }
     }
 }

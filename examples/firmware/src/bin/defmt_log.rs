@@ -53,7 +53,7 @@ fn main() -> ! {
             at: Ticks(t),
         };
         match session.on_reading(&r) {
-            Ok(Outcome::Integrated { before, after }) if before != after => {
+            Ok(Outcome::Integrated { before, after, .. }) if before != after => {
                 defmt::info!("sample {=u32}: {} -> {} on {}", n, before, after, r);
                 stop = Some(n);
             }

@@ -176,6 +176,7 @@ fn main() -> ! {
         out == Ok(Outcome::Integrated {
             before: Phase::Exposing,
             after: Phase::Exposing,
+            milestone: None,
         }),
     );
     for n in 6..crossing {
@@ -192,6 +193,7 @@ fn main() -> ! {
         out == Ok(Outcome::Integrated {
             before: Phase::Exposing,
             after: Phase::TargetMet,
+            milestone: None,
         }) && !EN.is_high(),
     );
 
