@@ -16,6 +16,19 @@ fn io_error() -> MockError {
     MockError::Io(std::io::ErrorKind::Other)
 }
 
+/// Pins of a run that starts, stops at its target and never alarms: enable low (new), high
+/// (start), low (stop); alarm low (new).
+fn clean_run_pins() -> (PinMock, PinMock) {
+    (
+        PinMock::new(&[
+            Pin::set(State::Low),
+            Pin::set(State::High),
+            Pin::set(State::Low),
+        ]),
+        PinMock::new(&[Pin::set(State::Low)]),
+    )
+}
+
 fn h(j_per_m2: f64) -> DoseAmount {
     DoseAmount::RadiantExposure(RadiantExposure::from_j_per_m2(j_per_m2))
 }
@@ -185,12 +198,7 @@ where
 
 #[test]
 fn milestones_every_20_percent_fire_on_the_first_sample_at_or_above_each() {
-    let mut en = PinMock::new(&[
-        Pin::set(State::Low),
-        Pin::set(State::High),
-        Pin::set(State::Low),
-    ]);
-    let mut al = PinMock::new(&[Pin::set(State::Low)]);
+    let (mut en, mut al) = clean_run_pins();
     let mut s = Session::new(meter(), config(1.0, 0.1), en.clone(), al.clone()).unwrap();
     s.set_milestones(Milestones::EveryFraction(0.2)).unwrap();
     let hits = milestone_run(&mut s);
@@ -216,12 +224,7 @@ fn milestones_every_20_percent_fire_on_the_first_sample_at_or_above_each() {
 
 #[test]
 fn one_sample_past_several_milestones_reports_the_last() {
-    let mut en = PinMock::new(&[
-        Pin::set(State::Low),
-        Pin::set(State::High),
-        Pin::set(State::Low),
-    ]);
-    let mut al = PinMock::new(&[Pin::set(State::Low)]);
+    let (mut en, mut al) = clean_run_pins();
     let mut s = Session::new(meter(), config(0.5, 0.1), en.clone(), al.clone()).unwrap();
     // Steps of 10 mJ/m² per sample: 0.101, 0.103, 0.105 are all first reached at 0.11 J/m².
     s.set_milestones(Milestones::Doses(&[h(0.101), h(0.103), h(0.105), h(0.3)]))
@@ -236,12 +239,7 @@ fn one_sample_past_several_milestones_reports_the_last() {
 
 #[test]
 fn milestones_every_step_in_photons() {
-    let mut en = PinMock::new(&[
-        Pin::set(State::Low),
-        Pin::set(State::High),
-        Pin::set(State::Low),
-    ]);
-    let mut al = PinMock::new(&[Pin::set(State::Low)]);
+    let (mut en, mut al) = clean_run_pins();
     let mut s = Session::new(meter(), config(1.0, 0.1), en.clone(), al.clone()).unwrap();
     // A quarter of the target, given in photons on the 1 cm² sample area.
     let mol_per_j = s.meter().band().mol_per_j();
@@ -257,12 +255,7 @@ fn milestones_every_step_in_photons() {
 
 #[test]
 fn a_fine_step_reports_every_milestone_exactly_once_in_order() {
-    let mut en = PinMock::new(&[
-        Pin::set(State::Low),
-        Pin::set(State::High),
-        Pin::set(State::Low),
-    ]);
-    let mut al = PinMock::new(&[Pin::set(State::Low)]);
+    let (mut en, mut al) = clean_run_pins();
     let mut s = Session::new(meter(), config(1.0, 0.1), en.clone(), al.clone()).unwrap();
     // 100 milestones of 10 mJ/m²; 4 W/m² gives 40 mJ/m² per 10 ms sample, so each sample
     // passes four milestones (the step estimate and the exact threshold check together).
