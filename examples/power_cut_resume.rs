@@ -7,8 +7,6 @@
 //!
 //! `cargo run --example power_cut_resume`
 
-use core::convert::Infallible;
-
 use hosttests::flash::SimFlash;
 use photon_ledger::journal::checkpoint::{full_scale_irradiance, resume_session};
 use photon_ledger::journal::export::export_csv;
@@ -17,47 +15,14 @@ use photon_ledger::prelude::*;
 
 type Flash = SimFlash<1, 4, 1024>;
 
-struct Pin;
-impl embedded_hal::digital::ErrorType for Pin {
-    type Error = Infallible;
-}
-impl embedded_hal::digital::OutputPin for Pin {
-    fn set_low(&mut self) -> Result<(), Infallible> {
-        Ok(())
-    }
-    fn set_high(&mut self) -> Result<(), Infallible> {
-        Ok(())
-    }
-}
+use photon_ledger::fixtures::RecordingPin as Pin;
 
 const CODE: i32 = 2004;
 
+/// The workspace's workbench meter (12-bit, 3.3 V, 100 kΩ, 0.2 A/W over 1 mm², 365 nm) at
+/// 1 kHz; see `photon_ledger::fixtures::bench_meter` for its figures.
 fn meter() -> Meter {
-    let fe = FrontEnd::new(
-        AdcSpec {
-            bits: 12,
-            reference: Voltage::from_v(3.3),
-            pga_gain: 1.0,
-            coding: Coding::Unipolar,
-            saturation_margin: 2,
-        },
-        &[AmplifierRange {
-            gain: Transimpedance::from_kohm(100.0),
-            dark_offset: 4,
-        }],
-    )
-    .expect("front end");
-    Meter::new(MeterConfig {
-        front_end: fe,
-        calibration: Calibration::Responsivity {
-            responsivity: Responsivity::from_a_per_w(0.2),
-            active_area: Area::from_mm2(1.0),
-        },
-        band: Band::Line(Wavelength::from_nm(365.0)),
-        tick_rate: TickRate::from_hz(1000).expect("rate"),
-        sample_area: None,
-    })
-    .expect("meter")
+    photon_ledger::fixtures::bench_meter(1000).expect("meter")
 }
 
 fn config() -> SessionConfig {
@@ -126,7 +91,7 @@ fn main() {
     // First boot: start the session.
     let mut journal = Journal::mount(Flash::new(4), journal_cfg).expect("mount");
     let mut cp = Checkpointer::new(cp_cfg).expect("checkpoint config");
-    let mut session = Session::new(meter.clone(), config(), Pin, Pin)
+    let mut session = Session::new(meter.clone(), config(), Pin::default(), Pin::default())
         .map_err(|_| ())
         .expect("session");
     let start = cp.start_record(&meter, session.config(), CalibrationId(1), Ticks(0));
@@ -164,7 +129,7 @@ fn main() {
     flash.power_on();
     let mut journal = Journal::mount(flash, journal_cfg).expect("mount after the cut");
     let recovered = *journal.recovered().expect("an open session");
-    let mut session = Session::new(meter, config(), Pin, Pin)
+    let mut session = Session::new(meter, config(), Pin::default(), Pin::default())
         .map_err(|_| ())
         .expect("session");
     let resumed = resume_session(&mut session, &recovered).expect("same configuration");

@@ -8,7 +8,9 @@
 use crate::acquire::reading::TickRate;
 use crate::frontend::{AdcSpec, AmplifierRange, Coding, FrontEnd, FrontEndError, MAX_RANGES};
 use crate::irradiance::{Calibration, Meter, MeterConfig, MeterError};
-use crate::quantity::{IrradiancePerCurrent, Transimpedance, Voltage, Wavelength};
+use crate::quantity::{
+    Area, IrradiancePerCurrent, Responsivity, Transimpedance, Voltage, Wavelength,
+};
 use crate::spectral::band::Band;
 
 /// Why a fixture meter could not be built (only for out-of-range arguments).
@@ -104,6 +106,124 @@ pub fn two_range_meter(nm: f64) -> Result<Meter, FixtureError> {
     round_meter_ranges(&[1.0, 10.0], 1000, Band::Line(Wavelength::from_nm(nm)))
 }
 
+/// The workbench meter of the journal, resume and throughput tests and the power-cut example:
+/// a 12-bit unipolar converter on a 3.3 V reference (saturation margin 2 codes), one 100 kΩ
+/// range with a dark offset of 4 codes, a photodiode of 0.2 A/W over 1 mm², a 365 nm line, at
+/// `tick_hz` ticks per second (> 0). No sample area.
+///
+/// # Errors
+/// [`FixtureError::Argument`] for a tick rate of 0.
+pub fn bench_meter(tick_hz: u32) -> Result<Meter, FixtureError> {
+    let fe = FrontEnd::new(
+        AdcSpec {
+            bits: 12,
+            reference: Voltage::from_v(3.3),
+            pga_gain: 1.0,
+            coding: Coding::Unipolar,
+            saturation_margin: 2,
+        },
+        &[AmplifierRange {
+            gain: Transimpedance::from_kohm(100.0),
+            dark_offset: 4,
+        }],
+    )
+    .map_err(FixtureError::FrontEnd)?;
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Responsivity {
+            responsivity: Responsivity::from_a_per_w(0.2),
+            active_area: Area::from_mm2(1.0),
+        },
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(tick_hz).ok_or(FixtureError::Argument)?,
+        sample_area: None,
+    })
+    .map_err(FixtureError::Meter)
+}
+
+/// The milliwatt meter of the integration tests: a 12-bit unipolar converter on a 4.096 V
+/// reference (1 mV per code), one 100 kΩ range (10 nA per code) and a certificate factor of
+/// 1e5 (W/m²)/A, so one net code is exactly 1 mW/m²; a line at `nm` (> 0), `tick_hz` ticks
+/// per second (> 0), a sample area of 1 cm².
+///
+/// # Errors
+/// [`FixtureError`] for a tick rate of 0 or a wavelength the band refuses.
+pub fn milliwatt_meter(tick_hz: u32, nm: f64) -> Result<Meter, FixtureError> {
+    let fe = FrontEnd::new(
+        AdcSpec {
+            bits: 12,
+            reference: Voltage::from_v(4.096),
+            pga_gain: 1.0,
+            coding: Coding::Unipolar,
+            saturation_margin: 0,
+        },
+        &[AmplifierRange {
+            gain: Transimpedance::from_kohm(100.0),
+            dark_offset: 0,
+        }],
+    )
+    .map_err(FixtureError::FrontEnd)?;
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Certificate(IrradiancePerCurrent::from_w_per_m2_per_a(1e5)),
+        band: Band::Line(Wavelength::from_nm(nm)),
+        tick_rate: TickRate::from_hz(tick_hz).ok_or(FixtureError::Argument)?,
+        sample_area: Some(Area::from_cm2(1.0)),
+    })
+    .map_err(FixtureError::Meter)
+}
+
+/// An output (and input) pin that records what was written: its level, how many writes it
+/// took, and how many of them went high. Never fails; reading it as an input gives the level
+/// last written (an interlock wired to it reads closed while it is high).
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct RecordingPin {
+    /// The level last written (`true` = high); low before the first write.
+    pub high: bool,
+    /// Writes so far.
+    pub writes: u32,
+    /// Writes that set the pin high.
+    pub rises: u32,
+}
+
+impl RecordingPin {
+    /// A pin that reads high (for an interlock input that starts closed).
+    pub const fn high() -> Self {
+        Self {
+            high: true,
+            writes: 0,
+            rises: 0,
+        }
+    }
+}
+
+impl embedded_hal::digital::ErrorType for RecordingPin {
+    type Error = core::convert::Infallible;
+}
+
+impl embedded_hal::digital::OutputPin for RecordingPin {
+    fn set_low(&mut self) -> Result<(), Self::Error> {
+        self.high = false;
+        self.writes = self.writes.saturating_add(1);
+        Ok(())
+    }
+    fn set_high(&mut self) -> Result<(), Self::Error> {
+        self.high = true;
+        self.writes = self.writes.saturating_add(1);
+        self.rises = self.rises.saturating_add(1);
+        Ok(())
+    }
+}
+
+impl embedded_hal::digital::InputPin for RecordingPin {
+    fn is_high(&mut self) -> Result<bool, Self::Error> {
+        Ok(self.high)
+    }
+    fn is_low(&mut self) -> Result<bool, Self::Error> {
+        Ok(!self.high)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -120,5 +240,22 @@ mod tests {
             round_meter(1e-3, 0).map(|_| ()),
             Err(FixtureError::Argument)
         );
+        // 1 mV per code / 100 kΩ = 10 nA per code; × 1e5 (W/m²)/A = 1 mW/m² per code.
+        let m = milliwatt_meter(1000, 365.0).unwrap();
+        assert!((m.irradiance(1000, RangeIndex(0)).w_per_m2() - 1.0).abs() < 1e-12);
+        assert_eq!(bench_meter(0).map(|_| ()), Err(FixtureError::Argument));
+    }
+
+    #[test]
+    fn the_recording_pin_records() {
+        use embedded_hal::digital::{InputPin, OutputPin};
+        let mut p = RecordingPin::default();
+        assert!(!p.high);
+        p.set_high().unwrap();
+        p.set_high().unwrap();
+        p.set_low().unwrap();
+        assert_eq!((p.high, p.writes, p.rises), (false, 3, 2));
+        assert_eq!(p.is_low(), Ok(true));
+        assert_eq!(RecordingPin::high().is_high(), Ok(true));
     }
 }

@@ -722,21 +722,7 @@ fn quantum_yield_from_a_depleting_run_inverts_the_model() {
 // The session stops on an absorbed-photon target
 // ---------------------------------------------------------------------------------------
 
-#[derive(Debug, Default)]
-struct Pin(bool);
-impl embedded_hal::digital::ErrorType for Pin {
-    type Error = core::convert::Infallible;
-}
-impl embedded_hal::digital::OutputPin for Pin {
-    fn set_low(&mut self) -> Result<(), Self::Error> {
-        self.0 = false;
-        Ok(())
-    }
-    fn set_high(&mut self) -> Result<(), Self::Error> {
-        self.0 = true;
-        Ok(())
-    }
-}
+use photon_ledger::fixtures::RecordingPin as Pin;
 
 fn run_session(target: RadiantExposure, code: i32) -> Session<Pin, Pin> {
     let mut cfg = common::config(1.0, 0.0);
