@@ -183,7 +183,7 @@ pub mod prelude {
         ActiveLevel, DoseAmount, Fault, Outcome, Phase, Progress, Session, SessionConfig,
         SessionError,
     };
-    pub use crate::control::PinError;
+    pub use crate::control::{PinError, Refusal};
     pub use crate::dose::{Integrator, Rounding, SampleError};
     pub use crate::frontend::{AdcSpec, AmplifierRange, CodeFault, Coding, FrontEnd, Sample};
     pub use crate::irradiance::{Calibration, Meter, MeterConfig};

@@ -31,6 +31,41 @@ pub mod exposure;
 pub mod plausibility;
 pub mod session;
 
+/// Why a controller command was refused; nothing changed. Shared by the
+/// [`Session`](session::Session) and the [`CuringController`](curing::CuringController).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
+pub enum Refusal {
+    /// Pause outside the exposing phase (session).
+    NotExposing,
+    /// Resume when not paused (session: outside `Paused`; curing: the part is not paused).
+    NotPaused,
+    /// The interlock reads "open" (resume, or starting a part).
+    InterlockOpen,
+    /// A part is active; finish it first (curing).
+    PartActive,
+    /// No part is active (curing).
+    NoPart,
+    /// The alarm is latched; acknowledge it first (curing).
+    AlarmLatched,
+}
+
+impl core::fmt::Display for Refusal {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        f.write_str(match self {
+            Self::NotExposing => "refused: not exposing",
+            Self::NotPaused => "refused: not paused",
+            Self::InterlockOpen => "refused: the interlock is open",
+            Self::PartActive => "refused: a part is active",
+            Self::NoPart => "refused: no part is active",
+            Self::AlarmLatched => "refused: the alarm is latched",
+        })
+    }
+}
+
+impl core::error::Error for Refusal {}
+
 /// Which logic level means "active" on an output (or "closed" on an interlock input).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]

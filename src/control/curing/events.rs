@@ -243,22 +243,6 @@ pub enum TimerOutcome {
     NotExposing,
 }
 
-/// Why a command was refused (nothing changed).
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub enum Refusal {
-    /// A part is active; finish it first.
-    PartActive,
-    /// No part is active.
-    NoPart,
-    /// The alarm is latched; acknowledge it first.
-    AlarmLatched,
-    /// The interlock reads "open".
-    InterlockOpen,
-    /// The part is not paused.
-    NotPaused,
-}
-
 /// Error of a controller operation. `EO` is the output pins' error
 /// ([`PinError`](crate::control::PinError): which pin, with its own error type), `EI` the
 /// interlock input's.

@@ -128,14 +128,14 @@ mod controller;
 mod events;
 mod part;
 
+pub use crate::control::Refusal;
 pub use config::{
     ActuatorLag, CuringConfig, CuringConfigError, FallPoint, FallProfile, IrradianceLimit,
     IrradianceWindow, LampReference, LightOffCheck, StopPolicy,
 };
 pub use controller::CuringController;
 pub use events::{
-    CuringError, CuringFault, CuringPhase, Events, Refusal, SampleUse, StopReason, TimerOutcome,
-    Update,
+    CuringError, CuringFault, CuringPhase, Events, SampleUse, StopReason, TimerOutcome, Update,
 };
 pub use part::{LampTrend, PartId, PartRecord};
 

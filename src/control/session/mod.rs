@@ -64,7 +64,7 @@ use crate::frontend::{CodeFault, Sample};
 use crate::irradiance::Meter;
 use crate::quantity::{Irradiance, RadiantExposure, Seconds};
 
-pub use crate::control::{ActiveLevel, PinError};
+pub use crate::control::{ActiveLevel, PinError, Refusal};
 
 mod config;
 mod milestones;
@@ -74,7 +74,7 @@ pub use config::{to_exposure, DoseAmount, SessionConfig, SessionConfigError};
 use milestones::{step_plan, Plan};
 pub use milestones::{Milestones, MAX_MILESTONES, MAX_STEP_MILESTONES};
 pub use state::{
-    CommandError, Fault, Ignored, Outcome, PauseCause, PauseSummary, Phase, Progress, Refusal,
+    CommandError, Fault, Ignored, Outcome, PauseCause, PauseSummary, Phase, Progress,
     SessionCommandError, SessionError, SessionPinError,
 };
 

@@ -5,7 +5,7 @@ use embedded_hal::digital::ErrorType;
 
 use super::SessionConfigError;
 use crate::acquire::reading::Ticks;
-use crate::control::{InterlockInput, PinError};
+use crate::control::{InterlockInput, PinError, Refusal};
 use crate::frontend::CodeFault;
 use crate::quantity::{
     Irradiance, PhotonAmount, PhotonExposure, PhotonIrradiance, RadiantExposure, Seconds,
@@ -160,18 +160,6 @@ impl<EE, AE, IE> From<PinError<EE, AE>> for CommandError<EE, AE, IE> {
     fn from(e: PinError<EE, AE>) -> Self {
         Self::Pin(e)
     }
-}
-
-/// Why a command was refused (nothing changed).
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub enum Refusal {
-    /// [`Session::pause`] outside [`Phase::Exposing`].
-    NotExposing,
-    /// [`Session::resume`] outside [`Phase::Paused`].
-    NotPaused,
-    /// [`Session::resume`] with the interlock open.
-    InterlockOpen,
 }
 
 /// The command error of a session with enable `EN`, alarm `AL` and interlock `IL`.
