@@ -443,6 +443,31 @@ fn interlock_read_error_drives_the_safe_state() {
         Outcome::Faulted(Fault::InterlockPin)
     );
     assert_eq!(s.phase(), Phase::Faulted(Fault::InterlockPin));
+    // The pin's own error value is kept for diagnosis.
+    assert_eq!(s.interlock_error(), Some(&io_error()));
+    en.done();
+    al.done();
+    door.done();
+}
+
+#[test]
+fn interlock_read_error_at_start_keeps_the_error_and_never_lights() {
+    // start(): the read fails, so the enable output never goes active (set low twice: at
+    // construction and for the safe state) and the alarm is raised.
+    let mut en = PinMock::new(&[Pin::set(State::Low), Pin::set(State::Low)]);
+    let mut al = PinMock::new(&[Pin::set(State::Low), Pin::set(State::High)]);
+    let mut door = PinMock::new(&[Pin::get(State::High).with_error(io_error())]);
+    let mut s = Session::with_interlock(
+        meter(),
+        config(1.0, 0.1),
+        en.clone(),
+        al.clone(),
+        InterlockPin::new(door.clone(), ActiveLevel::High),
+    )
+    .unwrap();
+    assert_eq!(s.interlock_error(), None);
+    assert_eq!(s.start().unwrap(), Phase::Faulted(Fault::InterlockPin));
+    assert_eq!(s.interlock_error(), Some(&io_error()));
     en.done();
     al.done();
     door.done();

@@ -80,7 +80,7 @@ pub use state::{
 
 /// A dose-controlled exposure. See the [module documentation](self).
 #[derive(Debug)]
-pub struct Session<EN, AL, IL = NoInterlock> {
+pub struct Session<EN, AL, IL: InterlockInput = NoInterlock> {
     meter: Meter,
     integrator: Integrator,
     target: RadiantExposure,
@@ -104,6 +104,9 @@ pub struct Session<EN, AL, IL = NoInterlock> {
     pauses: u16,
     dark_ticks: u64,
     leak_j_per_m2: f64,
+    /// The interlock read error that faulted the session from [`start`](Self::start) or a
+    /// reading (those return the fault, not the error); `None` otherwise.
+    interlock_error: Option<IL::Error>,
     enable: EN,
     alarm: AL,
     interlock: IL,
@@ -179,6 +182,7 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
             pauses: 0,
             dark_ticks: 0,
             leak_j_per_m2: 0.0,
+            interlock_error: None,
             enable,
             alarm,
             interlock,
@@ -192,7 +196,8 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
     ///
     /// Does nothing unless the phase is [`Phase::Ready`]. With an interlock, an open
     /// interlock leaves the session in `Ready` (returned), and a failed read faults it
-    /// (`Faulted(InterlockPin)` returned; the safe state is driven).
+    /// (`Faulted(InterlockPin)` returned; the safe state is driven; the read error is kept
+    /// for [`interlock_error`](Self::interlock_error)).
     ///
     /// # Errors
     /// [`PinError`] if an output cannot be written (the session is then faulted).
@@ -201,7 +206,8 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
             match self.interlock.is_closed() {
                 Ok(true) => {}
                 Ok(false) => return Ok(self.phase),
-                Err(_) => {
+                Err(e) => {
+                    self.interlock_error = Some(e);
                     self.enter_fault(Fault::InterlockPin)?;
                     return Ok(self.phase);
                 }
@@ -400,7 +406,8 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
                         self.begin_pause(PauseCause::Interlock, reading.at)?;
                     }
                 }
-                Err(_) => {
+                Err(e) => {
+                    self.interlock_error = Some(e);
                     return self
                         .enter_fault(Fault::InterlockPin)
                         .map(|()| Outcome::Faulted(Fault::InterlockPin));
@@ -683,6 +690,14 @@ impl<EN: OutputPin, AL: OutputPin, IL: InterlockInput> Session<EN, AL, IL> {
             leak: RadiantExposure::from_j_per_m2(self.leak_j_per_m2 + open_leak),
             milestones_reached: u16::try_from(self.next_milestone).unwrap_or(u16::MAX),
         }
+    }
+
+    /// The interlock read error that faulted the session at [`start`](Self::start) or at a
+    /// reading ([`Fault::InterlockPin`]; those calls report the fault, not the error), for
+    /// diagnosis. `None` if no such read failed. [`resume`](Self::resume) and
+    /// [`poll_interlock`](Self::poll_interlock) return their read errors directly.
+    pub fn interlock_error(&self) -> Option<&IL::Error> {
+        self.interlock_error.as_ref()
     }
 
     /// Give the output pins back (and drop the interlock; see
