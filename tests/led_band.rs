@@ -185,6 +185,10 @@ fn uv_hazard_factor_over_a_2_5_nm_peak_tolerance() {
     // band factor by tens of percent (computed bound, not a published figure).
     assert!(r.max_over_nominal() > 1.2, "{r:?}");
     assert!(r.min < r.nominal && r.nominal < r.max);
+    // The exposure monitor's factor for a limit is the conservative one, not the nominal.
+    let w = photon_ledger::control::exposure::WeightFactor::for_limit(&r).unwrap();
+    assert_eq!(w.ratio(), r.max);
+    assert!(w.ratio() > r.nominal);
 }
 
 #[test]

@@ -47,6 +47,7 @@
 //! exposures; they are offered separately ([`crate::spectral::weighting::UvaEyeRule`]), never merged.
 
 use crate::quantity::RadiantExposure;
+use crate::spectral::band_tolerance::FactorRange;
 use crate::spectral::weighting::WeightedFactor;
 
 pub mod display;
@@ -89,11 +90,25 @@ impl WeightFactor {
     pub fn from_ratio(ratio: f64) -> Option<Self> {
         (ratio.is_finite() && ratio > 0.0).then_some(Self(ratio))
     }
-    /// The factor computed from the band and an action spectrum
+    /// The factor computed from the band and an action spectrum at the band's nominal peak
     /// ([`crate::spectral::weighting::WeightedFactor`]); `None` if its fraction is zero.
+    ///
+    /// For an LED whose peak has a tolerance (a datasheet bin), use
+    /// [`for_limit`](Self::for_limit) for an exposure limit: the nominal factor can be well
+    /// below the one at the worst peak in the bin near a steep action spectrum.
     #[must_use]
     pub fn from_weighted(factor: &WeightedFactor) -> Option<Self> {
         Self::from_ratio(factor.fraction())
+    }
+    /// The conservative factor for a limit that protects people: the largest weighted
+    /// fraction over the LED's peak tolerance
+    /// ([`FactorRange::conservative_fraction`], from
+    /// [`led_factor_range`](crate::spectral::band_tolerance::led_factor_range)). This is the
+    /// factor the exposure monitor should be configured with whenever the peak has a
+    /// tolerance. `None` if that fraction is zero (the action spectrum does not see the band).
+    #[must_use]
+    pub fn for_limit(range: &FactorRange) -> Option<Self> {
+        Self::from_ratio(range.conservative_fraction())
     }
     /// The ratio.
     #[must_use]
