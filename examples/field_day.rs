@@ -13,7 +13,7 @@
 use hosttests::sim::{Rng, SimPin};
 use photon_ledger::control::exposure::display::{dose_line, solar_line, status_line};
 use photon_ledger::control::exposure::{
-    ExposureConfig, ExposureMonitor, SamplingPlan, SolarMonitor, WeightFactor,
+    ExposureConfig, ExposureMonitor, OffTime, SamplingPlan, SolarMonitor, WeightFactor,
 };
 use photon_ledger::irradiance::calibration::Validity;
 use photon_ledger::prelude::*;
@@ -126,6 +126,7 @@ fn main() -> Result<(), String> {
     let mut next_status = 8 * HOUR;
     let mut samples = 0u32;
     let mut acknowledged = false;
+    let mut swapped = false;
     while t < 17 * HOUR {
         samples += 1;
         let uvc = Reading {
@@ -157,6 +158,27 @@ fn main() -> Result<(), String> {
                 gap.ticks / S,
                 gap.bound.j_per_m2()
             );
+        }
+        if !swapped && t >= 11 * HOUR + 6 * MIN {
+            // Battery swap: the state is checkpointed (on a device: to the journal), the
+            // logger is off for about two minutes with no real-time clock, and resumes from
+            // the checkpoint. Window, shift and the latched alarm come back; nothing is
+            // counted while it is off, and the shift says so.
+            swapped = true;
+            let state = hazard.state();
+            let before = hazard.window_exposure().j_per_m2();
+            let meter = hazard.meter().clone();
+            let pins = hazard.release();
+            hazard = ExposureMonitor::resume(meter, s254, config, pins, &state, OffTime::Unknown)
+                .map_err(|e| format!("{e:?}"))?;
+            t += 2 * MIN;
+            println!(
+                "{}  battery swapped: window {before:.1} -> {:.1} J/m² eff, alarm latched: {}",
+                clock(t),
+                hazard.window_exposure().j_per_m2(),
+                hazard.alarm_latched()
+            );
+            continue;
         }
         if hazard.alarm_latched() && !acknowledged && t >= 11 * HOUR + 10 * MIN {
             let still = hazard.acknowledge().map_err(|e| format!("{e:?}"))?;
@@ -210,6 +232,15 @@ fn main() -> Result<(), String> {
         shift.exposure.j_per_m2() / 30.0 * 100.0,
         shift.gaps,
         shift.alarm_latched
+    );
+    println!(
+        "resumed after a reset {} time(s); unmonitored time: {}",
+        shift.resumes,
+        if shift.off_unknown > 0 {
+            "not known (no real-time clock)".to_string()
+        } else {
+            format!("{} s", shift.off_ticks / u64::from(S))
+        }
     );
     println!(
         "erythemal dose today {:.2} SED; samples taken {samples}",

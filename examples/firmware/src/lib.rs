@@ -58,10 +58,16 @@ pub fn demo_meter() -> Option<Meter> {
         }],
     )
     .ok()?;
-    Meter::new(MeterConfig { front_end: fe, calibration: Calibration::Responsivity {
-responsivity: Responsivity::from_a_per_w(RESPONSIVITY_A_PER_W),
-active_area: Area::from_mm2(AREA_MM2),
-}, band: Band::Line(Wavelength::from_nm(365.0)), tick_rate: TickRate::from_hz(TICK_HZ)?, sample_area: None })
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Responsivity {
+            responsivity: Responsivity::from_a_per_w(RESPONSIVITY_A_PER_W),
+            active_area: Area::from_mm2(AREA_MM2),
+        },
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(TICK_HZ)?,
+        sample_area: None,
+    })
     .ok()
 }
 

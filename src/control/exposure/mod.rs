@@ -36,6 +36,9 @@
 //! - [`SolarMonitor`] gives the UV index (WHO 2002: 40 m²/W × erythemal irradiance, averaged
 //!   over a configurable period, reported as an integer) with the WHO categories, and the
 //!   day's erythemal dose in SED (100 J/m², ISO/CIE 17166).
+//! - [`ExposureState`] is the monitor's checkpoint: the window (by segment), the shift, the
+//!   warnings and the latched alarm, in µJ/m² rounded up, restored after a reset without
+//!   ever counting less ([`ExposureMonitor::resume`], [`OffTime`]).
 //! - [`SamplingPlan`] chooses the next sample time for battery-friendly duty cycling, and
 //!   [`display`] formats short status lines for a character display without float formatting.
 //!
@@ -54,6 +57,7 @@ pub mod display;
 mod monitor;
 mod plan;
 mod solar;
+mod state;
 mod weighted;
 mod window;
 
@@ -62,6 +66,7 @@ pub use monitor::{
 };
 pub use plan::SamplingPlan;
 pub use solar::SolarMonitor;
+pub use state::{ExposureState, OffTime, STATE_SEGMENTS};
 pub use weighted::{WeightedDose, LEVEL_SLACK};
 pub use window::RollingWindow;
 

@@ -8,6 +8,7 @@ use crate::frontend::{CodeFault, Sample};
 use crate::irradiance::Meter;
 use crate::quantity::{Irradiance, RadiantExposure, Seconds};
 
+use super::state::OffTime;
 use super::weighted::CommonScale;
 use super::{
     Accrued, ExposureConfigError, Gap, RollingWindow, WeightFactor, WeightedDose, EXACT_BITS,
@@ -100,6 +101,13 @@ pub struct ShiftTotals {
     pub gaps: u32,
     /// Whether the alarm was latched when the shift ended (it stays latched).
     pub alarm_latched: bool,
+    /// Resumes from a checkpoint after a reset in this shift
+    /// ([`ExposureMonitor::resume`]).
+    pub resumes: u32,
+    /// Known time the device was off (unmonitored) before those resumes, ticks.
+    pub off_ticks: u64,
+    /// Resumes whose off time was unknown: the unmonitored time is then not known either.
+    pub off_unknown: u32,
 }
 
 /// The personal exposure monitor. See the [module documentation](super).
@@ -120,6 +128,9 @@ pub struct ExposureMonitor<const N: usize, const L: usize, P> {
     active: u8,
     latched: bool,
     limit: RadiantExposure,
+    resumes: u32,
+    off_ticks: u64,
+    off_unknown: u32,
     pins: [P; L],
 }
 
@@ -211,6 +222,9 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
             active: 0,
             latched: false,
             limit: config.limit,
+            resumes: 0,
+            off_ticks: 0,
+            off_unknown: 0,
             pins,
         };
         for p in &mut m.pins {
@@ -313,6 +327,9 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
         self.shift_start = self.dose.total_units();
         self.shift_gap_start = self.dose.gap_units();
         self.gaps = 0;
+        self.resumes = 0;
+        self.off_ticks = 0;
+        self.off_unknown = 0;
         t
     }
 
@@ -328,6 +345,9 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
                 .to_exposure(self.dose.gap_units().wrapping_sub(self.shift_gap_start)),
             gaps: self.gaps,
             alarm_latched: self.latched,
+            resumes: self.resumes,
+            off_ticks: self.off_ticks,
+            off_unknown: self.off_unknown,
         }
     }
 
@@ -397,6 +417,70 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
     /// Give the pins back.
     pub fn release(self) -> [P; L] {
         self.pins
+    }
+
+    pub(super) const fn window(&self) -> &RollingWindow<N> {
+        &self.window
+    }
+
+    pub(super) fn window_mut(&mut self) -> &mut RollingWindow<N> {
+        &mut self.window
+    }
+
+    /// The shift's total and gap charge so far, common units.
+    pub(super) fn shift_units(&self) -> (u128, u128) {
+        (
+            self.dose.total_units().wrapping_sub(self.shift_start),
+            self.dose.gap_units().wrapping_sub(self.shift_gap_start),
+        )
+    }
+
+    /// Add a restored shift (common units) and count the resume and its off time.
+    pub(super) fn add_restored_shift(&mut self, total: u128, gap: u128, gaps: u32, off: OffTime) {
+        self.shift_start = self.shift_start.wrapping_sub(total);
+        self.shift_gap_start = self.shift_gap_start.wrapping_sub(gap);
+        self.gaps = self.gaps.saturating_add(gaps);
+        self.resumes = self.resumes.saturating_add(1);
+        match off {
+            OffTime::Ticks(t) => self.off_ticks = self.off_ticks.saturating_add(t),
+            OffTime::Unknown => self.off_unknown = self.off_unknown.saturating_add(1),
+        }
+    }
+
+    /// Raise the restored warning levels and latch, then settle every level on the window.
+    pub(super) fn raise_restored(
+        &mut self,
+        active: u8,
+        latched: bool,
+    ) -> Result<Changes, P::Error> {
+        let mut changes = Changes::default();
+        let alarm = alarm_bit::<L>();
+        if latched && alarm != 0 {
+            self.latched = true;
+        }
+        let mut result = Ok(());
+        for i in 0..L {
+            let bit = 1u8 << i;
+            let want = active & bit != 0 || (bit == alarm && self.latched);
+            if want && self.active & bit == 0 {
+                self.active |= bit;
+                changes.raised |= bit;
+                if bit == alarm {
+                    changes.alarm_latched = self.latched;
+                }
+                if let Some(p) = self.pins.get_mut(i) {
+                    // Keep raising the others if one pin fails; report the first error.
+                    if let Err(e) = p.set_high() {
+                        if result.is_ok() {
+                            result = Err(e);
+                        }
+                    }
+                }
+            }
+        }
+        result?;
+        self.update_levels(&mut changes)?;
+        Ok(changes)
     }
 
     fn update_levels(&mut self, changes: &mut Changes) -> Result<(), P::Error> {

@@ -107,6 +107,57 @@ impl<const N: usize> RollingWindow<N> {
         self.bucket_ticks
     }
 
+    /// The dose in the bucket of age `age` (0 = the open bucket, 1 ..= `B` the complete ones,
+    /// newest first) in common units, given the running total `total`; 0 beyond the window.
+    #[must_use]
+    pub fn amount_at_age(&self, age: usize, total: u128) -> u128 {
+        if age > self.used {
+            return 0;
+        }
+        let newer = if age == 0 {
+            total
+        } else {
+            self.mark_at_age(age)
+        };
+        newer.wrapping_sub(self.mark_at_age(age.wrapping_add(1)))
+    }
+
+    /// Add `amount` common units to the bucket of age `age` (0 = the open bucket, 1 ..= `B`
+    /// the complete ones) without changing the running total: every mark older than that
+    /// bucket is lowered by `amount` (wrapping, as every mark difference is taken). The dose
+    /// leaves the window when that bucket does. An age beyond the window adds nothing and
+    /// returns `false`.
+    pub fn add_at_age(&mut self, age: usize, amount: u128) -> bool {
+        if age > self.used {
+            return false;
+        }
+        let count = self.used.wrapping_add(1);
+        for j in age.wrapping_add(1)..=count {
+            let i = self.index_of_age(j);
+            if let Some(m) = self.marks.get_mut(i) {
+                *m = m.wrapping_sub(amount);
+            }
+        }
+        true
+    }
+
+    /// The mark at the end of the bucket of age `j` (1 ..= `B + 1`; `B + 1` is where the
+    /// window begins).
+    fn mark_at_age(&self, j: usize) -> u128 {
+        self.marks.get(self.index_of_age(j)).copied().unwrap_or(0)
+    }
+
+    /// Ring index of the mark of age `j` (1 = the newest mark, at `head`).
+    fn index_of_age(&self, j: usize) -> usize {
+        let count = self.used.wrapping_add(1);
+        let back = j.saturating_sub(1).checked_rem(count).unwrap_or(0);
+        if back <= self.head {
+            self.head.wrapping_sub(back)
+        } else {
+            count.wrapping_sub(back.wrapping_sub(self.head))
+        }
+    }
+
     fn oldest(&self) -> u128 {
         self.marks.get(self.next(self.head)).copied().unwrap_or(0)
     }

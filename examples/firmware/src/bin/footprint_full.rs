@@ -16,9 +16,11 @@ use cortex_m_rt::entry;
 use cortex_m_semihosting::hprintln;
 use embedded_storage::nor_flash::NorFlash;
 use photon_ledger::journal::export::export_csv;
+use photon_ledger::journal::record::{
+    Body, Checkpoint, SessionId, StoredExposure, StoredIrradiance,
+};
 use photon_ledger::journal::{Journal, JournalConfig, Retention};
 use photon_ledger::prelude::*;
-use photon_ledger::journal::record::{Body, Checkpoint, SessionId, StoredExposure, StoredIrradiance};
 use photon_ledger_firmware::{
     curing_config, exit, init_session, stack, units_of_mj_per_cm2, DemoSession, Lamp, PinState,
     Reference, SAMPLE_TICKS,

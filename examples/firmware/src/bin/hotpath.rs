@@ -27,9 +27,9 @@ use core::hint::black_box;
 use cortex_m_rt::entry;
 use cortex_m_semihosting::hprintln;
 use panic_semihosting as _;
+use photon_ledger::control::session::Outcome;
 use photon_ledger::dose::{Crossed, Step};
 use photon_ledger::prelude::*;
-use photon_ledger::control::session::Outcome;
 use photon_ledger_firmware::markers::*;
 use photon_ledger_firmware::{
     curing_config, demo_meter, units_of_mj_per_cm2, Checks, DemoSession, PinState, Reference,
@@ -73,10 +73,16 @@ fn two_range_meter() -> Option<Meter> {
         ],
     )
     .ok()?;
-    Meter::new(MeterConfig { front_end: fe, calibration: Calibration::Responsivity {
-responsivity: Responsivity::from_a_per_w(0.2),
-active_area: Area::from_mm2(1.0),
-}, band: Band::Line(Wavelength::from_nm(365.0)), tick_rate: TickRate::from_hz(1_000)?, sample_area: None })
+    Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: Calibration::Responsivity {
+            responsivity: Responsivity::from_a_per_w(0.2),
+            active_area: Area::from_mm2(1.0),
+        },
+        band: Band::Line(Wavelength::from_nm(365.0)),
+        tick_rate: TickRate::from_hz(1_000)?,
+        sample_area: None,
+    })
     .ok()
 }
 

@@ -8,8 +8,8 @@ use core::hint::black_box;
 use core::sync::atomic::{AtomicBool, Ordering};
 
 use cortex_m_rt::entry;
-use photon_ledger::control::PinError;
 use photon_ledger::control::curing::{CuringConfigError, CuringError};
+use photon_ledger::control::PinError;
 use photon_ledger::prelude::*;
 
 #[path = "../nopanic/common.rs"]

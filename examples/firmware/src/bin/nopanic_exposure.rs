@@ -8,11 +8,11 @@
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
-use photon_ledger::control::exposure::ExposureError;
 use photon_ledger::control::exposure::display::{dose_line, solar_line};
+use photon_ledger::control::exposure::ExposureError;
 use photon_ledger::control::exposure::{
-    ExposureConfig, ExposureMonitor, RollingWindow, SamplingPlan, SolarMonitor, WeightFactor,
-    WeightedDose,
+    ExposureConfig, ExposureMonitor, OffTime, RollingWindow, SamplingPlan, SolarMonitor,
+    WeightFactor, WeightedDose,
 };
 use photon_ledger::control::plausibility::{Plausibility, PlausibilityConfig};
 use photon_ledger::prelude::*;
@@ -177,7 +177,23 @@ fn monitor(m: &Meter, w: WeightFactor) {
         black_box(mon.meter().tick_rate());
         let line = dose_line(mon.fraction_used(), mon.time_left());
         black_box(line.as_str().len());
-        black_box(mon.release());
+        // Checkpoint and resume after a reset, with an unknown and a known off time.
+        let state = black_box(mon.state());
+        let pins = mon.release();
+        let off = if black_box(t) % 2 == 0 {
+            OffTime::Unknown
+        } else {
+            OffTime::Ticks(black_box(12_345))
+        };
+        match ExposureMonitor::<9, 3, OpaquePin>::resume(m.clone(), w, config, pins, &state, off) {
+            Ok(mon) => {
+                black_box(mon.shift_totals());
+                black_box(mon.release());
+            }
+            Err(e) => {
+                black_box(e);
+            }
+        }
     }
 }
 

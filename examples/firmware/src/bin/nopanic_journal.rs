@@ -7,12 +7,12 @@
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
-use photon_ledger::journal::export::export_csv;
-use photon_ledger::journal::{Journal, JournalConfig, Retention};
 use photon_ledger::acquire::reading::Ticks;
+use photon_ledger::journal::export::export_csv;
 use photon_ledger::journal::record::{
     Body, Checkpoint, Record, SessionId, StoredExposure, StoredIrradiance, MAX_RECORD_LEN,
 };
+use photon_ledger::journal::{Journal, JournalConfig, Retention};
 
 #[path = "../nopanic/common.rs"]
 mod common;

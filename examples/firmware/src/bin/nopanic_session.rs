@@ -6,9 +6,9 @@
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
+use photon_ledger::control::session::to_exposure;
 use photon_ledger::control::session::SessionError;
 use photon_ledger::prelude::*;
-use photon_ledger::control::session::to_exposure;
 
 #[path = "../nopanic/common.rs"]
 mod common;

@@ -10,11 +10,11 @@
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
+use photon_ledger::control::exposure::WeightFactor;
 use photon_ledger::irradiance::calibration::{
     accept, check, serial, transfer, CalibrationRecord, CalibrationSource, Day, ExpiryPolicy,
     RangeCalibration, Temperature, TransferInputs, RECORD_LEN,
 };
-use photon_ledger::control::exposure::WeightFactor;
 use photon_ledger::prelude::*;
 use photon_ledger::spectral::spectrum::{
     air_refractivity, air_to_vacuum, band_integral, corrected_certificate, mercury_air_nm,

@@ -97,10 +97,16 @@ pub fn meter(fe: photon_ledger::frontend::FrontEnd) -> Option<photon_ledger::irr
     } else {
         Band::Line(Wavelength::from_nm(365.0))
     };
-    let m = Meter::new(MeterConfig { front_end: fe, calibration: black_box(Calibration::Responsivity {
-responsivity: Responsivity::from_a_per_w(0.2),
-active_area: Area::from_mm2(1.0),
-}), band: black_box(band), tick_rate: TickRate::from_hz(black_box(1_000))?, sample_area: black_box(Some(Area::from_cm2(2.0))) });
+    let m = Meter::new(MeterConfig {
+        front_end: fe,
+        calibration: black_box(Calibration::Responsivity {
+            responsivity: Responsivity::from_a_per_w(0.2),
+            active_area: Area::from_mm2(1.0),
+        }),
+        band: black_box(band),
+        tick_rate: TickRate::from_hz(black_box(1_000))?,
+        sample_area: black_box(Some(Area::from_cm2(2.0))),
+    });
     if let Err(e) = &m {
         show(e);
     }
