@@ -1,6 +1,8 @@
 //! Unit tests of [`super`].
 
 use super::*;
+use crate::acquire::reading::Ticks;
+use crate::quantity::{Irradiance, RadiantExposure, Wavelength};
 
 fn start() -> Record {
     Record {
