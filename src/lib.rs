@@ -18,7 +18,8 @@
 //!  acquire/      reading: raw code + amplifier range + timestamp     PhotodiodeAdc (nb)
 //!                autorange: range choice with hysteresis             OutputPin
 //!  frontend      code → net code (once per reading: Sample) → volts → photocurrent
-//!  spectral/     band, spectrum, weighting, peak tolerance → factors  (configuration time)
+//!  spectral/     band, table, action, spectrum, weighting, peak tolerance → factors
+//!                (configuration time)
 //!  irradiance/   photocurrent → W/m²: the Meter; calibration records (CRC, expiry)
 //!  dose/         the one exact integer integral; thresholds in integer units
 //!  time          the one timing policy and the 64-bit tick base
@@ -39,9 +40,12 @@
 //! each reading's net (dark-corrected) code once ([`Sample`](frontend::Sample)), with
 //! saturation flags, volts and photocurrent. [`spectral`] does the configuration-time work:
 //! [`band`](spectral::band) reduces a line or an LED band to photons per joule;
-//! [`spectrum`](spectral::spectrum) and [`weighting`](spectral::weighting) integrate
-//! tabulated sources, detector tables, spectral mismatch and the action spectra (CIE
-//! erythema, ICNIRP S(λ), UV-A) into constant factors. [`irradiance`] turns photocurrent into
+//! [`table`](spectral::table) holds the validated tables and wavelength ranges,
+//! [`action`](spectral::action) the action spectra (CIE erythema, ICNIRP S(λ), B(λ), UV-A);
+//! [`spectrum`](spectral::spectrum) integrates tabulated sources, detector tables, spectral
+//! mismatch and weighted fractions, and [`weighting`](spectral::weighting) turns them into
+//! the weighted read-outs (UV index, SED, hazard times) — constant factors all.
+//! [`irradiance`] turns photocurrent into
 //! W/m²: its [`Meter`](irradiance::Meter) combines all configuration into per-range
 //! constants, and [`irradiance::calibration`] is the sealed calibration record with its
 //! expiry check.

@@ -367,7 +367,7 @@ impl QuantumYieldTable<'_> {
         self.validate()?;
         // Snapped to 1 fm: `Wavelength` stores metres, so `from_nm(436.0).nm()` is not exactly
         // 436.0, and a table's last row would otherwise be missed or interpolated.
-        let (phi, checked) = self.lookup(crate::spectral::spectrum::snap_nm(wavelength))?;
+        let (phi, checked) = self.lookup(crate::spectral::band::snap_nm(wavelength))?;
         Ok(ActinometerYield {
             quantum_yield: QuantumYield::new(phi)?,
             table: self.id,

@@ -30,6 +30,21 @@ use core::f64::consts::LN_2;
 pub const MIN_WAVELENGTH_NM: f64 = 100.0;
 /// Longest vacuum wavelength a band may use, nm (silicon and InGaAs photodiodes stop here).
 pub const MAX_WAVELENGTH_NM: f64 = 2500.0;
+/// A wavelength in nm, rounded to 10⁻⁶ nm (1 fm).
+///
+/// [`Wavelength`] stores metres, so `Wavelength::from_nm(395.0).nm()` is not exactly 395.0;
+/// rounding to 1 fm (far below any spectral detail) makes every wavelength with up to six
+/// decimals in nm land exactly on the table point or band edge it names.
+pub(crate) fn snap_nm(w: Wavelength) -> f64 {
+    let nm = w.nm();
+    let q = libm::round(nm * 1e6) / 1e6;
+    if q.is_finite() {
+        q
+    } else {
+        nm
+    }
+}
+
 /// Points of the energy grid used to integrate an LED band (odd, so the peak is a node).
 pub const LED_GRID_POINTS: u32 = 801;
 /// Half-width of the LED integration range in standard deviations.
@@ -178,8 +193,8 @@ impl LedShape {
     /// [`BandError::Fwhm`] if the width cannot be matched (not seen for valid inputs).
     pub fn new(peak: Wavelength, fwhm: Wavelength) -> Result<Self, BandError> {
         check_wavelength(peak)?;
-        let p = crate::spectral::spectrum::snap_nm(peak);
-        let w = crate::spectral::spectrum::snap_nm(fwhm);
+        let p = snap_nm(peak);
+        let w = snap_nm(fwhm);
         if !w.is_finite() || w <= 0.0 || w > p * 0.5 {
             return Err(BandError::Fwhm);
         }

@@ -25,10 +25,10 @@
 //! example B(λ) at 435–440 nm) is covered by the interior samples. Configuration time only.
 
 use crate::quantity::Wavelength;
-use crate::spectral::spectrum::{
-    snap_nm, weighted_fraction, IntegrationRule, Source, SpectralError, WavelengthRange,
-};
-use crate::spectral::weighting::{Weighting, WeightingKind};
+use crate::spectral::action::{Weighting, WeightingKind};
+use crate::spectral::band::snap_nm;
+use crate::spectral::spectrum::{weighted_fraction, IntegrationRule, Source};
+use crate::spectral::table::{SpectralError, WavelengthRange};
 
 /// Number of peaks sampled across the tolerance (odd: the nominal peak is a sample).
 pub const TOLERANCE_SAMPLES: u32 = 21;

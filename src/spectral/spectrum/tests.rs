@@ -1,6 +1,7 @@
 //! Unit tests of [`super`].
 
 use super::*;
+use crate::spectral::band::{BandError, MAX_WAVELENGTH_NM, MIN_WAVELENGTH_NM};
 use crate::spectral::weighting::{uv_hazard, UvBand, UvBandEdges};
 
 fn rel(a: f64, b: f64) -> f64 {
