@@ -422,7 +422,20 @@ fn display_lines_fit_and_read_right() {
     );
     assert_eq!(
         solar_line(3, UvIndexCategory::Moderate, 1e9).as_str(),
-        "UVI 3 MOD99.9SED"
+        "UVI 3 MOD 999SED"
+    );
+    // Ten SED and more: whole SED, rounded up, never run into the category.
+    assert_eq!(
+        solar_line(5, UvIndexCategory::Moderate, 17.4).as_str(),
+        "UVI 5 MOD  18SED"
+    );
+    assert_eq!(
+        solar_line(5, UvIndexCategory::Moderate, 9.95).as_str(),
+        "UVI 5 MOD  10SED"
+    );
+    assert_eq!(
+        solar_line(5, UvIndexCategory::Moderate, 9.89).as_str(),
+        "UVI 5 MOD 9.9SED"
     );
     assert_eq!(
         status_line(Validity::Valid { days_left: 200 }, false).as_str(),

@@ -121,8 +121,9 @@ pub fn dose_line(fraction_used: f64, time_left: Option<Seconds>) -> Line {
 }
 
 /// `"UVI 7 HI  1.3SED"`: reported UV index (0 ..= 99, capped), category (`LOW`, `MOD`, `HI`,
-/// `VHI`, `EXT`), the day's dose in standard erythema doses (one decimal, rounded up, capped
-/// at 99.9) with its unit `SED`.
+/// `VHI`, `EXT`), a space, then the day's dose in standard erythema doses with its unit `SED`,
+/// always rounded up: one decimal below 10 SED (`" 9.9"`), whole SED from 10 to 999 (`" 18"`,
+/// capped at 999). The dose never touches the category (`"UVI 5 MOD  18SED"`).
 #[must_use]
 pub fn solar_line(uvi: u32, category: UvIndexCategory, day_sed: f64) -> Line {
     let mut s = Line::new();
@@ -133,21 +134,18 @@ pub fn solar_line(uvi: u32, category: UvIndexCategory, day_sed: f64) -> Line {
         UvIndexCategory::VeryHigh => "VHI",
         UvIndexCategory::Extreme => "EXT",
     };
-    let tenths = libm::ceil(day_sed * 10.0);
-    let tenths = if tenths <= 0.0 {
-        0
-    } else if tenths >= 999.0 {
-        999
-    } else {
-        tenths as u32
-    };
     let uvi = uvi.min(99);
-    let _ = write!(
-        s,
-        "UVI{uvi:>2} {cat:<3}{:>2}.{}SED",
-        tenths / 10,
-        tenths % 10
-    );
+    let _ = write!(s, "UVI{uvi:>2} {cat:<3} ");
+    let tenths = libm::ceil(day_sed * 10.0);
+    let _ = if tenths < 100.0 {
+        // 0 ..= 99 tenths (NaN and negative doses show 0.0).
+        let t = if tenths > 0.0 { tenths as u32 } else { 0 };
+        write!(s, "{}.{}SED", t / 10, t % 10)
+    } else {
+        let whole = libm::ceil(day_sed);
+        let whole = if whole >= 999.0 { 999 } else { whole as u32 };
+        write!(s, "{whole:>3}SED")
+    };
     s
 }
 
