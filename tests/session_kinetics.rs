@@ -540,3 +540,20 @@ fn start_with_the_interlock_open_stays_ready() {
     al.done();
     door.done();
 }
+
+#[test]
+fn command_errors_read_as_sentences() {
+    use photon_ledger::control::session::CommandError;
+    use photon_ledger::control::Refusal;
+    let refused: CommandError<(), (), ()> = CommandError::Refused(Refusal::NotPaused);
+    assert_eq!(refused.to_string(), "refused: not paused");
+    let door: CommandError<(), (), &str> = CommandError::Interlock("bus");
+    assert_eq!(
+        door.to_string(),
+        "interlock could not be read (safe state): \"bus\""
+    );
+    let pin: CommandError<&str, (), ()> = CommandError::Pin(PinError::Enable("nak"));
+    assert!(pin
+        .to_string()
+        .starts_with("enable output could not be written"));
+}

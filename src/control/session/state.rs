@@ -156,6 +156,23 @@ pub enum CommandError<EE, AE, IE> {
     Interlock(IE),
 }
 
+impl<EE: core::fmt::Debug, AE: core::fmt::Debug, IE: core::fmt::Debug> core::fmt::Display
+    for CommandError<EE, AE, IE>
+{
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        match self {
+            Self::Refused(r) => write!(f, "{r}"),
+            Self::Pin(e) => write!(f, "{e}"),
+            Self::Interlock(e) => write!(f, "interlock could not be read (safe state): {e:?}"),
+        }
+    }
+}
+
+impl<EE: core::fmt::Debug, AE: core::fmt::Debug, IE: core::fmt::Debug> core::error::Error
+    for CommandError<EE, AE, IE>
+{
+}
+
 impl<EE, AE, IE> From<PinError<EE, AE>> for CommandError<EE, AE, IE> {
     fn from(e: PinError<EE, AE>) -> Self {
         Self::Pin(e)
