@@ -104,6 +104,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
                 t_abs,
                 line: i as u64 + 2,
                 temperature_c: f32::NAN,
+                station: Default::default(),
             }
         })
         .collect();

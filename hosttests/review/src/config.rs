@@ -76,7 +76,8 @@ struct ConfigToml {
     calibration: S<CalibrationToml>,
     band: S<BandToml>,
     clock: S<ClockToml>,
-    session: S<SessionToml>,
+    session: Option<S<SessionToml>>,
+    curing: Option<S<CuringToml>>,
     exposure: Option<S<ExposureToml>>,
     solar: Option<S<SolarToml>>,
     samples: Option<S<SamplesToml>>,
@@ -162,6 +163,37 @@ struct SessionToml {
     sample_area_cm2: Option<S<f64>>,
 }
 
+/// `[curing]`: a curing station's recipe, replayed through the library's `CuringController`.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct CuringToml {
+    target: S<DoseToml>,
+    tolerance: S<DoseToml>,
+    max_gap_ticks: S<u32>,
+    max_unusable_run: Option<S<u16>>,
+    stop: Option<S<String>>,
+    timer_stop: Option<S<bool>>,
+    lag_s: Option<S<f64>>,
+    lag_profile: Option<S<Vec<S<FallPointToml>>>>,
+    warm_up_s: Option<S<f64>>,
+    minimum_w_per_m2: Option<S<f64>>,
+    minimum_hold_off_s: Option<S<f64>>,
+    maximum_w_per_m2: Option<S<f64>>,
+    maximum_hold_off_s: Option<S<f64>>,
+    light_off_fraction: S<f64>,
+    light_off_floor_w_per_m2: S<f64>,
+    light_off_margin_s: S<f64>,
+    lamp_reference_w_per_m2: Option<S<f64>>,
+    lamp_maintenance_below: Option<S<f64>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct FallPointToml {
+    after_s: S<f64>,
+    remaining: S<f64>,
+}
+
 #[derive(Debug, Deserialize)]
 #[serde(deny_unknown_fields)]
 struct DoseToml {
@@ -233,6 +265,15 @@ pub struct SolarSetup {
     pub bucket_ticks: u32,
 }
 
+/// A curing recipe (`[curing]`), validated by the library's `CuringController::new`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CuringSetup {
+    /// The controller's configuration (pin levels are the replay's own: active high).
+    pub config: CuringConfig,
+    /// Replay the firmware's timer compare at `stop_due()` between readings.
+    pub timer_stop: bool,
+}
+
 /// A validated session configuration: the library's own configuration values.
 #[derive(Debug, Clone)]
 pub struct ReviewConfig {
@@ -260,6 +301,9 @@ pub struct ReviewConfig {
     pub solar: Option<SolarSetup>,
     /// Sample file columns declared in `[samples] extra_columns`: accepted and not read.
     pub extra_columns: Vec<String>,
+    /// The curing recipe, when the file has `[curing]` instead of `[session]` (then
+    /// `session`, `target` and `tolerance` carry the recipe's target, tolerance and gap).
+    pub curing: Option<CuringSetup>,
 }
 
 struct Ctx<'a> {
@@ -307,6 +351,14 @@ impl Ctx<'_> {
                     num(hi)
                 ),
             ))
+        }
+    }
+    /// As [`Self::seconds_to_ticks`], and 0 s is 0 ticks.
+    fn seconds_to_ticks_or_zero(&self, v: &S<f64>, key: &str, hz: u32) -> Result<u32, ReviewError> {
+        if *v.get_ref() == 0.0 {
+            Ok(0)
+        } else {
+            self.seconds_to_ticks(v, key, hz)
         }
     }
     fn seconds_to_ticks(&self, v: &S<f64>, key: &str, hz: u32) -> Result<u32, ReviewError> {
@@ -414,6 +466,47 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
             ));
         }
     }
+    let s =
+        match (&raw.session, &raw.curing) {
+            (Some(t), None) => {
+                let v = t.get_ref();
+                SessionView {
+                    name: "session",
+                    span: t.span(),
+                    target: &v.target,
+                    tolerance: &v.tolerance,
+                    max_gap_ticks: &v.max_gap_ticks,
+                    max_unusable_run: v.max_unusable_run.as_ref(),
+                    sample_area_cm2: v.sample_area_cm2.as_ref(),
+                }
+            }
+            (None, Some(t)) => {
+                let v = t.get_ref();
+                SessionView {
+                    name: "curing",
+                    span: t.span(),
+                    target: &v.target,
+                    tolerance: &v.tolerance,
+                    max_gap_ticks: &v.max_gap_ticks,
+                    max_unusable_run: v.max_unusable_run.as_ref(),
+                    sample_area_cm2: None,
+                }
+            }
+            (Some(_), Some(c)) => return Err(ctx.err(
+                c.span(),
+                "curing",
+                "a file has either [session] (replay) or [curing] (a curing station's recipe), \
+                 not both",
+            )),
+            (None, None) => {
+                return Err(ctx.err(
+                    0..0,
+                    "session",
+                    "missing table [session] (a dose session for `replay`) or [curing] (a curing \
+                 station's recipe for `curing`)",
+                ))
+            }
+        };
     let labels = raw.run.clone().unwrap_or_default();
     if let Some(s) = &labels.start_utc {
         if super::time::parse_utc(s).is_none() {
@@ -464,10 +557,7 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
             &c.factor_w_per_m2_per_a,
             "calibration.factor_w_per_m2_per_a",
         ),
-        (
-            &raw.session.get_ref().sample_area_cm2,
-            "session.sample_area_cm2",
-        ),
+        (&s.sample_area_cm2.cloned(), "session.sample_area_cm2"),
     ] {
         if let Some(v) = v {
             ctx.in_range(v, key)?;
@@ -584,7 +674,6 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
         .ok_or_else(|| ctx.err(hz_v.span(), "clock.tick_rate_hz", "must be >= 1"))?;
 
     // [session]
-    let s = raw.session.get_ref();
     let sample_area = s
         .sample_area_cm2
         .as_ref()
@@ -632,9 +721,7 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
                 "band.fwhm_nm",
             ),
             MeterError::SampleArea => (
-                s.sample_area_cm2
-                    .as_ref()
-                    .map_or(raw.session.span(), |v| v.span()),
+                s.sample_area_cm2.map_or(s.span.clone(), |v| v.span()),
                 "session.sample_area_cm2",
             ),
             // A newer library's check: name the calibration section.
@@ -642,8 +729,9 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
         };
         ctx.err(span, key, e.to_string())
     })?;
-    let target = dose(&ctx, &s.target, "session.target")?;
-    let tolerance = dose(&ctx, &s.tolerance, "session.tolerance")?;
+    let key = |k: &str| format!("{}.{k}", s.name);
+    let target = dose(&ctx, s.target, &key("target"))?;
+    let tolerance = dose(&ctx, s.tolerance, &key("tolerance"))?;
     if tolerance.value == 0.0 {
         // The library turns the session overexposed when one sample carries the dose past
         // target + tolerance, also on the sample that reaches the target: with a tolerance of
@@ -651,7 +739,7 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
         // practice) ends `overexposed`.
         return Err(ctx.err(
             s.tolerance.span(),
-            &format!("session.tolerance.{}", tolerance.key),
+            &format!("{}.tolerance.{}", s.name, tolerance.key),
             "must be > 0: the sample that reaches the target carries the dose past it by up to \
              one interval's dose, and the firmware counts any dose past target + tolerance as \
              an overexposure; give at least the dose one sample interval can deliver",
@@ -661,31 +749,31 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
         target: target.amount,
         tolerance: tolerance.amount,
         max_gap_ticks: *s.max_gap_ticks.get_ref(),
-        max_unusable_run: s.max_unusable_run.as_ref().map_or(0, |v| *v.get_ref()),
+        max_unusable_run: s.max_unusable_run.map_or(0, |v| *v.get_ref()),
         enable_level: ActiveLevel::High,
         alarm_level: ActiveLevel::High,
     };
     // Let the library validate exactly as firmware would.
     if let Err(e) = super::replay::new_session(meter.clone(), session) {
         let (span, key) = match e {
-            SessionConfigError::Target => (s.target.span(), "session.target"),
-            SessionConfigError::Tolerance => (s.tolerance.span(), "session.tolerance"),
+            SessionConfigError::Target => (s.target.span(), key("target")),
+            SessionConfigError::Tolerance => (s.tolerance.span(), key("tolerance")),
             SessionConfigError::SampleAreaRequired => {
                 if matches!(target.amount, DoseAmount::Photons(_)) {
-                    (s.target.span(), "session.target")
+                    (s.target.span(), key("target"))
                 } else {
-                    (s.tolerance.span(), "session.tolerance")
+                    (s.tolerance.span(), key("tolerance"))
                 }
             }
-            SessionConfigError::MaxGap => (s.max_gap_ticks.span(), "session.max_gap_ticks"),
+            SessionConfigError::MaxGap => (s.max_gap_ticks.span(), key("max_gap_ticks")),
             // A newer library's check: name the session section.
-            _ => (raw.session.span(), "session"),
+            _ => (s.span.clone(), s.name.to_string()),
         };
         let mut msg = e.to_string();
         if e == SessionConfigError::SampleAreaRequired {
             msg.push_str(" (set session.sample_area_cm2)");
         }
-        return Err(ctx.err(span, key, msg));
+        return Err(ctx.err(span, &key, msg));
     }
 
     // [exposure]
@@ -795,7 +883,27 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
             extra_columns.push(name.clone());
         }
     }
+    // [curing]
+    let curing = match &raw.curing {
+        None => None,
+        Some(t) => {
+            for name in &extra_columns {
+                if STATION_COLUMNS.contains(&name.as_str()) {
+                    let v = raw.samples.as_ref().map_or(t.span(), |x| x.span());
+                    return Err(ctx.err(
+                        v,
+                        "samples.extra_columns",
+                        format!("`{name}` is a station column the curing replay reads"),
+                    ));
+                }
+            }
+            Some(curing_setup(
+                &ctx, t, &meter, &target, &tolerance, &session,
+            )?)
+        }
+    };
     Ok(ReviewConfig {
+        curing,
         extra_columns,
         file: file.to_string(),
         sha256,
@@ -809,6 +917,224 @@ pub fn parse(file: &str, bytes: &[u8]) -> Result<ReviewConfig, ReviewError> {
         exposure,
         solar,
     })
+}
+
+/// Sample-file columns the curing replay reads (see CONFIG.md, section 2).
+pub const STATION_COLUMNS: [&str; 3] = ["part", "guard", "command"];
+
+fn curing_setup(
+    ctx: &Ctx<'_>,
+    t: &S<CuringToml>,
+    meter: &Meter,
+    target: &GivenDose,
+    tolerance: &GivenDose,
+    session: &SessionConfig,
+) -> Result<CuringSetup, ReviewError> {
+    use photon_ledger::control::curing::{
+        ActuatorLag, CuringConfigError as E, FallPoint, FallProfile, IrradianceLimit,
+        IrradianceWindow, LampReference, LightOffCheck, StopPolicy,
+    };
+    let c = t.get_ref();
+    let hz = meter.tick_rate().hz();
+    let radiant = |d: &GivenDose, v: &S<DoseToml>, k: &str| match d.amount {
+        DoseAmount::RadiantExposure(h) => Ok(h),
+        _ => Err(ctx.err(
+            v.span(),
+            k,
+            "a curing recipe doses radiant exposure: give radiant_exposure_j_per_m2 or \
+             radiant_exposure_mj_per_cm2",
+        )),
+    };
+    let target_h = radiant(target, &c.target, "curing.target")?;
+    let tolerance_h = radiant(tolerance, &c.tolerance, "curing.tolerance")?;
+    let stop_policy = match c.stop.as_ref().map(|v| (v.get_ref().as_str(), v.span())) {
+        None | Some(("anticipate", _)) => StopPolicy::Anticipate,
+        Some(("at_target", _)) => StopPolicy::AtTarget,
+        Some((other, span)) => {
+            return Err(ctx.err(
+                span,
+                "curing.stop",
+                format!(
+                    "`{}`: expected \"anticipate\" or \"at_target\"",
+                    super::files::echo(other)
+                ),
+            ))
+        }
+    };
+    let lag = match (&c.lag_s, &c.lag_profile) {
+        (Some(_), Some(p)) => {
+            return Err(ctx.err(
+                p.span(),
+                "curing.lag_profile",
+                "give lag_s (a dead time) or lag_profile (a measured fall), not both",
+            ))
+        }
+        (Some(v), None) => ActuatorLag::Delay {
+            ticks: ctx.seconds_to_ticks_or_zero(v, "curing.lag_s", hz)?,
+        },
+        (None, None) => ActuatorLag::Delay { ticks: 0 },
+        (None, Some(p)) => {
+            let mut points = Vec::new();
+            for (i, pt) in p.get_ref().iter().enumerate() {
+                let key = format!("curing.lag_profile[{i}]");
+                let q = pt.get_ref();
+                let r = *q.remaining.get_ref();
+                if !(r.is_finite() && (0.0..=1.0).contains(&r)) {
+                    return Err(ctx.err(
+                        q.remaining.span(),
+                        &format!("{key}.remaining"),
+                        format!("{r}: a fraction of the light from 0 to 1"),
+                    ));
+                }
+                points.push(FallPoint {
+                    after_ticks: ctx.seconds_to_ticks(&q.after_s, &format!("{key}.after_s"), hz)?,
+                    remaining: r,
+                });
+            }
+            ActuatorLag::Profile(FallProfile::new(&points).map_err(|e| {
+                let span = match e {
+                    E::FallPoint(n) => p
+                        .get_ref()
+                        .get(usize::from(n))
+                        .map_or(p.span(), |x| x.span()),
+                    _ => p.span(),
+                };
+                ctx.err(span, "curing.lag_profile", e.to_string())
+            })?)
+        }
+    };
+    let limit = |w: &Option<S<f64>>,
+                 h: &Option<S<f64>>,
+                 wk: &str,
+                 hk: &str|
+     -> Result<Option<IrradianceLimit>, ReviewError> {
+        match (w, h) {
+            (None, None) => Ok(None),
+            (Some(w), h) => Ok(Some(IrradianceLimit {
+                irradiance: Irradiance::from_w_per_m2(ctx.positive(w, wk)?),
+                hold_off_ticks: match h {
+                    Some(h) => ctx.seconds_to_ticks_or_zero(h, hk, hz)?,
+                    None => 0,
+                },
+            })),
+            (None, Some(h)) => Err(ctx.err(h.span(), hk, format!("a hold-off needs {wk}"))),
+        }
+    };
+    let window = IrradianceWindow {
+        minimum: limit(
+            &c.minimum_w_per_m2,
+            &c.minimum_hold_off_s,
+            "curing.minimum_w_per_m2",
+            "curing.minimum_hold_off_s",
+        )?,
+        maximum: limit(
+            &c.maximum_w_per_m2,
+            &c.maximum_hold_off_s,
+            "curing.maximum_w_per_m2",
+            "curing.maximum_hold_off_s",
+        )?,
+        warm_up_ticks: match &c.warm_up_s {
+            Some(v) => ctx.seconds_to_ticks_or_zero(v, "curing.warm_up_s", hz)?,
+            None => 0,
+        },
+    };
+    let lamp = match (&c.lamp_reference_w_per_m2, &c.lamp_maintenance_below) {
+        (None, None) => None,
+        (Some(r), Some(f)) => Some(LampReference {
+            reference: Irradiance::from_w_per_m2(
+                ctx.positive(r, "curing.lamp_reference_w_per_m2")?,
+            ),
+            maintenance_below: *f.get_ref(),
+        }),
+        (Some(r), None) => {
+            return Err(ctx.err(
+                r.span(),
+                "curing.lamp_maintenance_below",
+                "give lamp_maintenance_below (a fraction, e.g. 0.7) with the lamp reference",
+            ))
+        }
+        (None, Some(f)) => {
+            return Err(ctx.err(
+                f.span(),
+                "curing.lamp_reference_w_per_m2",
+                "give lamp_reference_w_per_m2 with the maintenance fraction",
+            ))
+        }
+    };
+    let config = CuringConfig {
+        target: target_h,
+        tolerance: tolerance_h,
+        lag,
+        stop_policy,
+        window,
+        light_off: LightOffCheck {
+            fraction: *c.light_off_fraction.get_ref(),
+            floor: Irradiance::from_w_per_m2(*c.light_off_floor_w_per_m2.get_ref()),
+            margin_ticks: ctx.seconds_to_ticks_or_zero(
+                &c.light_off_margin_s,
+                "curing.light_off_margin_s",
+                hz,
+            )?,
+        },
+        lamp,
+        max_gap_ticks: session.max_gap_ticks,
+        max_unusable_run: session.max_unusable_run,
+        enable_level: ActiveLevel::High,
+        alarm_level: ActiveLevel::High,
+        interlock_closed_level: ActiveLevel::High,
+    };
+    // Let the library validate exactly as firmware would.
+    if let Err(e) = super::curing::new_controller(meter.clone(), config.clone()) {
+        let span_of = |v: &Option<S<f64>>| v.as_ref().map_or(t.span(), |x| x.span());
+        let (span, key) = match e {
+            E::Target => (c.target.span(), "curing.target"),
+            E::Tolerance => (c.tolerance.span(), "curing.tolerance"),
+            E::MaxGap => (c.max_gap_ticks.span(), "curing.max_gap_ticks"),
+            E::LagTooLong => match (&c.lag_s, &c.lag_profile) {
+                (Some(v), _) => (v.span(), "curing.lag_s"),
+                (_, Some(p)) => (p.span(), "curing.lag_profile"),
+                _ => (t.span(), "curing.lag_s"),
+            },
+            E::WindowIrradiance | E::WindowOrder => {
+                (span_of(&c.minimum_w_per_m2), "curing.minimum_w_per_m2")
+            }
+            E::LowHoldOff => (span_of(&c.minimum_hold_off_s), "curing.minimum_hold_off_s"),
+            E::HighHoldOff => (span_of(&c.maximum_hold_off_s), "curing.maximum_hold_off_s"),
+            E::WarmUp => (span_of(&c.warm_up_s), "curing.warm_up_s"),
+            E::LightOffFraction => (c.light_off_fraction.span(), "curing.light_off_fraction"),
+            E::LightOffFloor => (
+                c.light_off_floor_w_per_m2.span(),
+                "curing.light_off_floor_w_per_m2",
+            ),
+            E::LightOffMargin => (c.light_off_margin_s.span(), "curing.light_off_margin_s"),
+            E::LampReference => (
+                span_of(&c.lamp_reference_w_per_m2),
+                "curing.lamp_reference_w_per_m2",
+            ),
+            E::LampFraction => (
+                span_of(&c.lamp_maintenance_below),
+                "curing.lamp_maintenance_below",
+            ),
+            // A newer library's check (or a fall-profile error found above): the table.
+            _ => (t.span(), "curing"),
+        };
+        return Err(ctx.err(span, key, e.to_string()));
+    }
+    Ok(CuringSetup {
+        config,
+        timer_stop: c.timer_stop.as_ref().is_none_or(|v| *v.get_ref()),
+    })
+}
+
+/// `[session]` or `[curing]`: the keys both have.
+struct SessionView<'a> {
+    name: &'static str,
+    span: std::ops::Range<usize>,
+    target: &'a S<DoseToml>,
+    tolerance: &'a S<DoseToml>,
+    max_gap_ticks: &'a S<u32>,
+    max_unusable_run: Option<&'a S<u16>>,
+    sample_area_cm2: Option<&'a S<f64>>,
 }
 
 /// A dose key, its value if given, and how it becomes a library dose.

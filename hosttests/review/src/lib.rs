@@ -18,6 +18,7 @@
 //! `hosttests/review/CONFIG.md`.
 
 pub mod config;
+pub mod curing;
 pub mod decode;
 pub mod demo_image;
 pub mod error;

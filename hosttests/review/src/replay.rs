@@ -801,9 +801,9 @@ fn series_error(name: &str, e: std::io::Error) -> ReviewError {
 }
 
 /// A reader that hashes what passes through it (SHA-256).
-struct Hashing<R> {
-    inner: R,
-    hash: Sha256,
+pub(crate) struct Hashing<R> {
+    pub(crate) inner: R,
+    pub(crate) hash: Sha256,
 }
 
 impl<R: std::io::Read> std::io::Read for Hashing<R> {

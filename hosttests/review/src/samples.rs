@@ -73,6 +73,43 @@ pub struct Sample {
     pub line: u64,
     /// Detector temperature, °C (NaN if the file has no temperature column).
     pub temperature_c: f32,
+    /// The curing station's columns (`part`, `guard`, `command`); their defaults for a file
+    /// without them (and for every `replay` file).
+    pub station: StationRow,
+}
+
+/// What an operator (or the station's sequencer) did at a sample, from the `command` column.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum OperatorCommand {
+    /// `resume`: resume a part paused by the guard.
+    Resume,
+    /// `abort`: abort the part (safe state, alarm latched).
+    Abort,
+    /// `acknowledge`: clear a latched alarm (between parts).
+    Acknowledge,
+}
+
+/// The curing station's columns of one sample (see CONFIG.md, section 2).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct StationRow {
+    /// Part number from the `part` column; `None` for 0, an empty field or no column (no
+    /// part under the head).
+    pub part: Option<u32>,
+    /// The guard (door) switch from the `guard` column: `true` closed. Closed without the
+    /// column.
+    pub guard_closed: bool,
+    /// The `command` column, `None` when empty or absent.
+    pub command: Option<OperatorCommand>,
+}
+
+impl Default for StationRow {
+    fn default() -> Self {
+        Self {
+            part: None,
+            guard_closed: true,
+            command: None,
+        }
+    }
 }
 
 #[derive(Debug, Clone, Copy)]
@@ -82,6 +119,9 @@ struct Columns {
     value: (usize, ValueKind),
     range: Option<usize>,
     temperature: Option<usize>,
+    part: Option<usize>,
+    guard: Option<usize>,
+    command: Option<usize>,
 }
 
 /// Per-range conversion of a current or irradiance into a code.
@@ -122,6 +162,12 @@ fn field_name(cols: &Columns, i: usize) -> &'static str {
         "range"
     } else if Some(i) == cols.temperature {
         "temperature_c"
+    } else if Some(i) == cols.part {
+        "part"
+    } else if Some(i) == cols.guard {
+        "guard"
+    } else if Some(i) == cols.command {
+        "command"
     } else {
         "?"
     }
@@ -171,6 +217,10 @@ impl<R: Read> SampleReader<R> {
         let mut value = None;
         let mut range = None;
         let mut temperature = None;
+        let mut part = None;
+        let mut guard = None;
+        let mut command = None;
+        let station = config.curing.is_some();
         for (i, name) in header.iter().enumerate() {
             let col = Some(i as u64 + 1);
             let name = std::str::from_utf8(name.trim_ascii()).unwrap_or("");
@@ -193,6 +243,10 @@ impl<R: Read> SampleReader<R> {
                 }
                 "range" => range.replace(i).is_some(),
                 "temperature_c" => temperature.replace(i).is_some(),
+                // The curing station's columns, read by `curing` only.
+                "part" if station => part.replace(i).is_some(),
+                "guard" if station => guard.replace(i).is_some(),
+                "command" if station => command.replace(i).is_some(),
                 // Declared in the configuration's [samples] extra_columns: not read.
                 other if config.extra_columns.iter().any(|c| c == other) => false,
                 other => {
@@ -263,6 +317,9 @@ impl<R: Read> SampleReader<R> {
                 value,
                 range,
                 temperature,
+                part,
+                guard,
+                command,
             },
             conv,
             tick_hz: f64::from(meter.tick_rate().hz()),
@@ -468,6 +525,57 @@ impl<R: Read> SampleReader<R> {
             None => f32::NAN,
             Some(i) => self.float(line, i)? as f32,
         };
+        let mut station = StationRow::default();
+        if let Some(i) = cols.part {
+            let raw = self.record.get(i).unwrap_or(b"").trim_ascii();
+            if !raw.is_empty() {
+                let v = self.integer(line, i)?;
+                let p = u32::try_from(v).map_err(|_| {
+                    self.bad(
+                        line,
+                        i,
+                        format!("part {v} is not a part number 0 ..= 4294967295"),
+                    )
+                })?;
+                station.part = (p != 0).then_some(p);
+            }
+        }
+        if let Some(i) = cols.guard {
+            station.guard_closed = match self.text(line, i)? {
+                "closed" | "1" => true,
+                "open" | "0" => false,
+                other => {
+                    return Err(self.bad(
+                        line,
+                        i,
+                        format!(
+                            "`{}`: the guard is `closed` (or 1) or `open` (or 0)",
+                            echo(other)
+                        ),
+                    ))
+                }
+            };
+        }
+        if let Some(i) = cols.command {
+            let raw = self.record.get(i).unwrap_or(b"").trim_ascii();
+            if !raw.is_empty() {
+                station.command = Some(match self.text(line, i)? {
+                    "resume" => OperatorCommand::Resume,
+                    "abort" => OperatorCommand::Abort,
+                    "acknowledge" => OperatorCommand::Acknowledge,
+                    other => {
+                        return Err(self.bad(
+                            line,
+                            i,
+                            format!(
+                                "`{}`: a command is `resume`, `abort`, `acknowledge` or empty",
+                                echo(other)
+                            ),
+                        ))
+                    }
+                });
+            }
+        }
         Ok(Some(Sample {
             reading: Reading {
                 code,
@@ -477,6 +585,7 @@ impl<R: Read> SampleReader<R> {
             t_abs,
             line,
             temperature_c,
+            station,
         }))
     }
 }

@@ -8,6 +8,7 @@
 //! | `led-photoreactor` | 405 nm LED photoreactor, droops as it warms; the first reading saturates range 0 and the autoranger moves to range 1; stops at 5 µmol photons, logs 2 s more |
 //! | `curing-stuck-shutter` | 365 nm curing station at ~100 mW/cm², 1 kHz device ticks that wrap; the shutter sticks open at the target, the dose runs past target + tolerance (overexposed) |
 //! | `uv-logger-dropout` | a personal UV logger outdoors, irradiance exported in W/m² at 1 Hz with passing clouds and a 90 s dropout (a gap); exposure limit and UV index configured |
+//! | `curing-shift` | a 395 nm LED curing station runs six parts through the library's `CuringController` (a `[curing]` recipe): two plain parts, a guard opened and resumed, a shutter that sticks (light not off, alarm acknowledged), a repaired shutter, an aged lamp (lamp low); the file has `part`, `guard` and `command` columns for `photon-review curing` |
 //!
 //! The first two run closed-loop: the library's `Session` (and `Autorange`) decide, as
 //! firmware would, and the file records exactly the readings the session was fed.
@@ -34,7 +35,7 @@ pub struct Scenario {
 }
 
 /// The scenarios.
-pub const SCENARIOS: [Scenario; 3] = [
+pub const SCENARIOS: [Scenario; 4] = [
     Scenario {
         name: "led-photoreactor",
         summary: "405 nm LED photoreactor, autoranging, stops at 5 µmol photons",
@@ -50,7 +51,59 @@ pub const SCENARIOS: [Scenario; 3] = [
         summary: "personal UV logger outdoors with clouds and a 90 s dropout (gap)",
         config_toml: LOGGER,
     },
+    Scenario {
+        name: "curing-shift",
+        summary: "395 nm curing station, six parts: guard opened, stuck shutter, aged lamp",
+        config_toml: CURING_SHIFT,
+    },
 ];
+
+const CURING_SHIFT: &str = r#"# photon-review curing recipe (see hosttests/review/CONFIG.md, section 7).
+# Scenario `curing-shift`: invented values for a demonstration.
+format = 1
+
+[run]
+device_id = "cure-cell-2"
+reactor_id = "line-B"
+start_utc = "2025-05-06T06:00:00Z"
+
+[adc]
+bits = 16
+reference_v = 2.5
+saturation_margin_codes = 2
+
+[[ranges]]
+transimpedance_ohm = 1.0e5
+dark_offset_codes = 20
+
+[calibration]
+factor_w_per_m2_per_a = 1.2e8
+
+[band]
+peak_nm = 395.0
+fwhm_nm = 12.0
+
+[clock]
+tick_rate_hz = 1000
+
+[curing]
+target = { radiant_exposure_mj_per_cm2 = 500.0 }
+tolerance = { radiant_exposure_mj_per_cm2 = 25.0 }
+max_gap_ticks = 50
+stop = "anticipate"
+timer_stop = true
+lag_profile = [ { after_s = 0.02, remaining = 0.5 }, { after_s = 0.05, remaining = 0.0 } ]
+warm_up_s = 0.2
+minimum_w_per_m2 = 800.0
+minimum_hold_off_s = 0.2
+maximum_w_per_m2 = 2500.0
+maximum_hold_off_s = 0.05
+light_off_fraction = 0.05
+light_off_floor_w_per_m2 = 5.0
+light_off_margin_s = 0.05
+lamp_reference_w_per_m2 = 1400.0
+lamp_maintenance_below = 0.8
+"#;
 
 const LED_PHOTOREACTOR: &str = r#"# photon-review session configuration (see hosttests/review/CONFIG.md).
 # Scenario `led-photoreactor`: invented values for a demonstration.
@@ -196,6 +249,7 @@ pub fn simulate(s: &Scenario, seed: u64) -> Result<String, ReviewError> {
     match s.name {
         "led-photoreactor" => led_photoreactor(&cfg, seed),
         "curing-stuck-shutter" => curing(&cfg, seed),
+        "curing-shift" => curing_shift(&cfg),
         _ => logger(seed),
     }
 }
@@ -334,6 +388,148 @@ fn curing(cfg: &ReviewConfig, seed: u64) -> Result<String, ReviewError> {
         }
         if ms > 600_000 {
             return Err(other("no end within 10 minutes"));
+        }
+    }
+    Ok(out)
+}
+
+/// The `curing-shift` scenario: the library's `CuringController` on the simulated curing
+/// head of `hosttests::lamp_curing`, closed loop, recording every reading it was fed with the
+/// part, the guard and the operator's commands. Readings every 10 ms at 1 kHz ticks; the
+/// timer compare at `stop_due` fires between readings as firmware arms it.
+fn curing_shift(cfg: &ReviewConfig) -> Result<String, ReviewError> {
+    use hosttests::lamp_curing::{Actuator, LedArray, Photodiode as Head, Station};
+    use photon_ledger::control::curing::{CuringPhase, PartId, TimerOutcome};
+    const STEP: u64 = 10;
+    let setup = cfg
+        .curing
+        .clone()
+        .ok_or_else(|| other("curing-shift has no [curing]"))?;
+    let (mut c, pins) =
+        super::curing::new_controller(cfg.meter.clone(), setup.config).map_err(other)?;
+    let fall = Actuator::Profile(vec![(0.02, 0.5), (0.05, 0.0)]);
+    let mut station = Station::new(
+        LedArray::new(Irradiance::from_w_per_m2(1500.0), 0.15),
+        fall.clone(),
+    );
+    let mut head = Head::new(&cfg.meter, 20, 65535, 3);
+    let mut out = String::from(
+        "# scenario curing-shift (simulated, invented values)\n\
+         time_ticks,adc_code,part,guard,command\n",
+    );
+    let mut t: u64 = 0;
+    let apply = |st: &mut Station| st.command(pins.enable.get() && pins.door.get());
+    let row =
+        |out: &mut String, st: &mut Station, head: &mut Head, t: u64, part: u32, cmd: &str| {
+            st.advance_to(t as f64 / 1000.0);
+            let code = head.code(st.irradiance().w_per_m2());
+            let guard = if pins.door.get() { "closed" } else { "open" };
+            let _ = writeln!(out, "{t},{code},{part},{guard},{cmd}");
+            Reading {
+                code,
+                range: RangeIndex(0),
+                at: Ticks(t as u32),
+            }
+        };
+    // (part, door open/close/resume in s after the start, actuator, lamp ageing)
+    type Door = Option<(f64, f64, f64)>;
+    let parts: [(u32, Door, Actuator, f64); 6] = [
+        (101, None, fall.clone(), 1.0),
+        (102, None, fall.clone(), 1.0),
+        (103, Some((1.0, 1.5, 2.0)), fall.clone(), 1.0),
+        (
+            104,
+            None,
+            Actuator::Stuck {
+                after_s: 0.02,
+                fraction: 0.3,
+            },
+            1.0,
+        ),
+        (105, None, fall.clone(), 1.0),
+        (106, None, fall.clone(), 0.72),
+    ];
+    for (i, (id, door, actuator, ageing)) in parts.into_iter().enumerate() {
+        // One second between parts with no part under the head; the operator acknowledges
+        // a latched alarm there (after the stuck shutter was fixed).
+        for k in 0..100u64 {
+            t += STEP;
+            let cmd = if k == 50 && c.alarm_latched() {
+                "acknowledge"
+            } else {
+                ""
+            };
+            let _ = row(&mut out, &mut station, &mut head, t, 0, cmd);
+            if !cmd.is_empty() {
+                c.acknowledge_alarm().map_err(other)?;
+            }
+        }
+        station.actuator = actuator;
+        station.led.ageing = ageing;
+        station.reset_dose();
+        let start = t + STEP;
+        t = start;
+        let mut r = row(&mut out, &mut station, &mut head, t, id, "");
+        c.start(PartId(id), r.at).map_err(other)?;
+        let mut resumed = false;
+        let mut off_at: Option<u64> = None;
+        loop {
+            c.on_reading(&r).map_err(other)?;
+            apply(&mut station);
+            if off_at.is_none()
+                && matches!(c.phase(), CuringPhase::Complete | CuringPhase::Faulted(_))
+            {
+                off_at = Some(t);
+            }
+            if off_at.is_some_and(|o| t >= o + 300) || t > start + 60_000 {
+                break;
+            }
+            let next = t + STEP;
+            if c.phase() == CuringPhase::Exposing {
+                if let Some(due) = c.stop_due() {
+                    let due_abs = t + u64::from(due.wrapping_since(Ticks(t as u32)));
+                    if due_abs < next {
+                        station.advance_to(due_abs as f64 / 1000.0);
+                        if let TimerOutcome::Stopped = c.on_stop_timer(due).map_err(other)? {
+                            apply(&mut station);
+                        }
+                    }
+                }
+            }
+            if let Some((open, close, _)) = door {
+                for (edge_s, closed) in [(open, false), (close, true)] {
+                    let edge = start + (edge_s * 1000.0) as u64;
+                    if edge > t && edge <= next {
+                        station.advance_to(edge as f64 / 1000.0);
+                        pins.door.set(closed);
+                        apply(&mut station);
+                    }
+                }
+            }
+            t = next;
+            let resume = door.is_some_and(|(_, _, at)| {
+                !resumed && t >= start + (at * 1000.0) as u64 && c.phase() == CuringPhase::Paused
+            });
+            r = row(
+                &mut out,
+                &mut station,
+                &mut head,
+                t,
+                id,
+                if resume { "resume" } else { "" },
+            );
+            if resume {
+                c.resume(r.at).map_err(other)?;
+                resumed = true;
+            }
+        }
+        c.finish(Ticks(t as u32)).map_err(other)?;
+        apply(&mut station);
+        if i + 1 == 6 {
+            for _ in 0..50 {
+                t += STEP;
+                let _ = row(&mut out, &mut station, &mut head, t, 0, "");
+            }
         }
     }
     Ok(out)

@@ -19,7 +19,9 @@ use photon_review::decode::{self, Geometry, RetentionPolicy};
 use photon_review::files::{self, check_outputs, write_outputs};
 use photon_review::register::{self, Grouping, ImageLabels, Register};
 use photon_review::report::sig;
-use photon_review::{config, demo_image, explain, plot, replay, simulate, time, ReviewError};
+use photon_review::{
+    config, curing, demo_image, explain, plot, replay, simulate, time, ReviewError,
+};
 
 #[derive(Parser)]
 #[command(
@@ -175,6 +177,34 @@ enum Command {
         start_utc: Option<String>,
         /// Exit with status 3 unless the run ended with its target met (for QA scripts); the
         /// report and files are written either way.
+        #[arg(long)]
+        strict: bool,
+    },
+    /// Replay a recorded curing run (CSV with a `part` column) through a curing recipe
+    /// (TOML with [curing]) and the library's curing controller: one record per part with a
+    /// verdict and its reason.
+    Curing {
+        /// Curing recipe (TOML with a [curing] table).
+        #[arg(long, short = 'c')]
+        config: String,
+        /// Sample file (CSV with a header and a `part` column).
+        #[arg(long, short = 's')]
+        samples: String,
+        /// What to print on standard output: the text report, the JSON report, or one CSV
+        /// row per part.
+        #[arg(long, value_enum, default_value = "text")]
+        format: Format,
+        /// Also write the JSON report to this file.
+        #[arg(long)]
+        json: Option<String>,
+        /// Also write the text report to this file.
+        #[arg(long)]
+        text: Option<String>,
+        /// Also write one CSV row per part to this file.
+        #[arg(long)]
+        csv: Option<String>,
+        /// Exit with status 3 unless every part passed (for QA scripts); the report and files
+        /// are written either way.
         #[arg(long)]
         strict: bool,
     },
@@ -389,6 +419,12 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                 .collect();
             check_outputs(&outputs, &inputs)?;
             let mut cfg = config::load(&config)?;
+            if cfg.curing.is_some() {
+                return Err(ReviewError::Other(format!(
+                    "{config} is a curing recipe ([curing]): replay it with `photon-review \
+                     curing -c {config} -s {samples}`"
+                )));
+            }
             if let Some(s) = &start_utc {
                 if time::parse_utc(s).is_none() {
                     return Err(ReviewError::Other(format!(
@@ -477,6 +513,55 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
                         .fault
                         .as_deref()
                         .map_or(String::new(), |f| format!(" ({f})"))
+                ));
+            }
+        }
+        Command::Curing {
+            config,
+            samples,
+            format,
+            json: json_out,
+            text,
+            csv,
+            strict,
+        } => {
+            let inputs = [config.as_str(), samples.as_str()];
+            let outputs: Vec<&str> = [&json_out, &text, &csv]
+                .into_iter()
+                .flatten()
+                .map(String::as_str)
+                .collect();
+            check_outputs(&outputs, &inputs)?;
+            let cfg = config::load(&config)?;
+            let report = curing::replay_curing_file(&cfg, &samples)?;
+            // Everything below runs only after the whole file was replayed.
+            let text_report = report.to_text();
+            let json_report = json(&report)?;
+            let csv_report = report.to_csv()?;
+            let mut files: Vec<(&str, &[u8])> = Vec::new();
+            if let Some(p) = &json_out {
+                files.push((p, json_report.as_bytes()));
+            }
+            if let Some(p) = &text {
+                files.push((p, text_report.as_bytes()));
+            }
+            if let Some(p) = &csv {
+                files.push((p, csv_report.as_bytes()));
+            }
+            write_outputs(&files, &inputs)?;
+            match format {
+                Format::Text => out.say(&text_report)?,
+                Format::Json => {
+                    out.say(&json_report)?;
+                    out.say("\n")?;
+                }
+                Format::Csv => out.say(&csv_report)?,
+            }
+            let m = &report.summary;
+            if strict && (m.parts == 0 || m.passed != m.parts) {
+                done = Done::NotMet(format!(
+                    "--strict: {} of {} parts passed ({} failed, {} refused)",
+                    m.passed, m.parts, m.failed, m.refused
                 ));
             }
         }
