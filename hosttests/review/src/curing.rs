@@ -305,6 +305,8 @@ fn refusal_words(r: Refusal) -> &'static str {
         Refusal::PartActive => "a part is active",
         Refusal::NoPart => "no part is active",
         Refusal::NotPaused => "the part is not paused",
+        // The shared refusal also names session-only cases (and may grow).
+        _ => "the controller refused the command",
     }
 }
 
