@@ -1,26 +1,7 @@
 //! The exposure monitor's state across a reset: what a checkpoint keeps of the rolling window,
 //! the shift, the warnings and the latched alarm, and how it comes back at boot.
 //!
-//! A personal logger loses its RAM when the battery is swapped or the firmware restarts. The
-//! body does not forget, so neither may the monitor: [`ExposureMonitor::state`] gives a
-//! fixed-size [`ExposureState`] to store (in the journal, see
-//! [`crate::journal`]), and [`ExposureMonitor::resume`] builds the monitor from it after the
-//! reset.
-//!
-//! **Never lower.** Every amount is converted to µJ/m² *rounded up*, and back to the monitor's
-//! common unit rounded up again. The window is kept as [`STATE_SEGMENTS`] segments of whole
-//! buckets, newest first; at restore each segment's dose is placed in the *newest* bucket of
-//! its segment, so it leaves the window no earlier than it would have. The time the device was
-//! off ([`OffTime`]) ages the window only when it is known (a real-time clock); when it is
-//! unknown nothing is aged — the restored window is the one before the reset, which can only
-//! over-count. A latched alarm comes back latched and
-//! its output is raised again until acknowledged; warning levels that were active are raised
-//! again.
-//!
-//! **Not measured while off.** The device measured nothing while it was off; the monitor
-//! cannot charge that time (the wearer may have been indoors or exposed). It counts the restore
-//! and the known off time in [`ShiftTotals`](super::ShiftTotals) so the record and its review
-//! show the unmonitored interval explicitly.
+//! See [`ExposureState`].
 
 use embedded_hal::digital::OutputPin;
 
@@ -31,6 +12,27 @@ pub const STATE_SEGMENTS: usize = 8;
 
 /// A checkpoint of an [`ExposureMonitor`]: everything it needs to resume without counting
 /// less. Amounts are effective radiant exposure in µJ/m², rounded up.
+///
+/// A personal logger loses its RAM when the battery is swapped or the firmware restarts. The
+/// body does not forget, so neither may the monitor: [`ExposureMonitor::state`] gives a
+/// fixed-size [`ExposureState`] to store (in the journal, see
+/// [`crate::journal`]), and [`ExposureMonitor::resume`] builds the monitor from it after the
+/// reset.
+///
+/// **Never lower.** Every amount is converted to µJ/m² *rounded up*, and back to the monitor's
+/// common unit rounded up again. The window is kept as [`STATE_SEGMENTS`] segments of whole
+/// buckets, newest first; at restore each segment's dose is placed in the *newest* bucket of
+/// its segment, so it leaves the window no earlier than it would have. The time the device was
+/// off ([`OffTime`]) ages the window only when it is known (a real-time clock); when it is
+/// unknown nothing is aged — the restored window is the one before the reset, which can only
+/// over-count. A latched alarm comes back latched and
+/// its output is raised again until acknowledged; warning levels that were active are raised
+/// again.
+///
+/// **Not measured while off.** The device measured nothing while it was off; the monitor
+/// cannot charge that time (the wearer may have been indoors or exposed). It counts the restore
+/// and the known off time in [`ShiftTotals`](super::ShiftTotals) so the record and its review
+/// show the unmonitored interval explicitly.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct ExposureState {
@@ -133,8 +135,7 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
     }
 
     /// A monitor that resumes from a checkpointed state after a reset: as
-    /// [`new`](Self::new), then the state is put back (see the [module
-    /// documentation](self)): the window's dose returns to the newest bucket of each segment,
+    /// [`new`](Self::new), then the state is put back (see [`ExposureState`]): the window's dose returns to the newest bucket of each segment,
     /// aged by `off` only when it is known; the shift totals and gap count are carried on;
     /// warnings that were active are raised again and a latched alarm is latched again with
     /// its output active until [`acknowledge`](Self::acknowledge)d.
@@ -144,7 +145,7 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
     /// would have without the reset.
     ///
     /// # Errors
-    /// As [`new`](Self::new); [`ExposureError::Pin`] if a restored warning output cannot be
+    /// As [`new`](Self::new); [`ExposureError::Pin`](super::ExposureError::Pin) if a restored warning output cannot be
     /// raised.
     pub fn resume(
         meter: crate::irradiance::Meter,

@@ -1,6 +1,8 @@
 //! Session configuration: the dose target in any unit, its tolerance and the timing policy,
 //! validated once into [`SessionConfigError`].
 
+#[cfg(doc)]
+use super::{Session, MAX_MILESTONES, MAX_STEP_MILESTONES};
 use crate::control::ActiveLevel;
 use crate::irradiance::Meter;
 use crate::quantity::{PhotonAmount, PhotonExposure, RadiantExposure};

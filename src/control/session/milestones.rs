@@ -1,6 +1,8 @@
 //! Dose milestones below the target: the series a caller asks for ([`Milestones`]) and the
 //! validated plan the session re-arms one integrator threshold from.
 
+#[cfg(doc)]
+use super::Session;
 use super::{DoseAmount, SessionConfigError};
 
 /// Most milestones in a list ([`Milestones::Doses`]).

@@ -3,6 +3,8 @@
 
 use embedded_hal::digital::ErrorType;
 
+#[cfg(doc)]
+use super::Session;
 use super::SessionConfigError;
 use crate::acquire::reading::Ticks;
 use crate::control::{InterlockInput, PinError, Refusal};
