@@ -8,7 +8,6 @@ use crate::frontend::{CodeFault, Sample};
 use crate::irradiance::Meter;
 use crate::quantity::{Irradiance, RadiantExposure, Seconds};
 
-use super::state::OffTime;
 use super::weighted::CommonScale;
 use super::{
     Accrued, ExposureConfigError, Gap, RollingWindow, WeightFactor, WeightedDose, EXACT_BITS,
@@ -435,15 +434,22 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
         )
     }
 
-    /// Add a restored shift (common units) and count the resume and its off time.
-    pub(super) fn add_restored_shift(&mut self, total: u128, gap: u128, gaps: u32, off: OffTime) {
+    /// Add a restored shift (common units) and count the resume and its off time (`None`:
+    /// unknown).
+    pub(super) fn add_restored_shift(
+        &mut self,
+        total: u128,
+        gap: u128,
+        gaps: u32,
+        off_ticks: Option<u64>,
+    ) {
         self.shift_start = self.shift_start.wrapping_sub(total);
         self.shift_gap_start = self.shift_gap_start.wrapping_sub(gap);
         self.gaps = self.gaps.saturating_add(gaps);
         self.resumes = self.resumes.saturating_add(1);
-        match off {
-            OffTime::Ticks(t) => self.off_ticks = self.off_ticks.saturating_add(t),
-            OffTime::Unknown => self.off_unknown = self.off_unknown.saturating_add(1),
+        match off_ticks {
+            Some(t) => self.off_ticks = self.off_ticks.saturating_add(t),
+            None => self.off_unknown = self.off_unknown.saturating_add(1),
         }
     }
 

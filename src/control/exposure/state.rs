@@ -186,7 +186,10 @@ impl<const N: usize, const L: usize, P: OutputPin> ExposureMonitor<N, L, P> {
             uj_to_units_up(state.shift_uj_per_m2, unit),
             uj_to_units_up(state.shift_gap_uj_per_m2, unit),
             state.gaps,
-            off,
+            match off {
+                OffTime::Ticks(t) => Some(t),
+                OffTime::Unknown => None,
+            },
         );
         self.raise_restored(state.active, state.latched)
     }
