@@ -16,8 +16,8 @@
 //!  photodiode ─ transimpedance amp (ranges) ─ ADC
 //!        │
 //!  acquire/      reading: raw code + amplifier range + timestamp     PhotodiodeAdc (nb)
-//!                autorange: range choice with hysteresis             OutputPin
-//!  frontend      code → net code (once per reading: Sample) → volts → photocurrent
+//!  frontend/     code → net code (once per reading: Sample) → volts → photocurrent
+//!                autorange: next range from the Sample, hysteresis   OutputPin
 //!  spectral/     band, table, action, spectrum, weighting, peak tolerance → factors
 //!                (configuration time)
 //!  irradiance/   photocurrent → W/m²: the Meter; calibration records (CRC, expiry)
@@ -33,12 +33,12 @@
 //! [`PhotodiodeAdc`](acquire::reading::PhotodiodeAdc) trait (one non-blocking method) and the
 //! [`Reading`](acquire::reading::Reading) it yields once the caller stamps it with a tick
 //! count, with adapters for a closure and (feature `ads1x1x`) for the ADS1x1x I²C converters
-//! through their maintained driver. [`acquire::autorange`] picks the amplifier range and
-//! drives the analog switch.
+//! through their maintained driver.
 //!
 //! **Convert.** [`frontend`] validates the converter and amplifier description and computes
 //! each reading's net (dark-corrected) code once ([`Sample`](frontend::Sample)), with
-//! saturation flags, volts and photocurrent. [`spectral`] does the configuration-time work:
+//! saturation flags, volts and photocurrent; [`frontend::autorange`] picks the next amplifier
+//! range from each sample and drives the analog switch. [`spectral`] does the configuration-time work:
 //! [`band`](spectral::band) reduces a line or an LED band to photons per joule;
 //! [`table`](spectral::table) holds the validated tables and wavelength ranges,
 //! [`action`](spectral::action) the action spectra (CIE erythema, ICNIRP S(λ), B(λ), UV-A);
@@ -172,7 +172,6 @@ pub mod fixtures;
 
 /// The types most firmware needs, in one import.
 pub mod prelude {
-    pub use crate::acquire::autorange::{Autorange, AutorangeConfig, Decision};
     pub use crate::acquire::reading::{FnAdc, PhotodiodeAdc, RangeIndex, Reading, TickRate, Ticks};
     pub use crate::control::curing::{
         ActuatorLag, CuringConfig, CuringController, CuringFault, CuringPhase, Events, FallPoint,
@@ -189,6 +188,7 @@ pub mod prelude {
     };
     pub use crate::control::{PinError, Refusal};
     pub use crate::dose::{Integrator, Rounding, SampleError};
+    pub use crate::frontend::autorange::{Autorange, AutorangeConfig, Decision};
     pub use crate::frontend::{AdcSpec, AmplifierRange, CodeFault, Coding, FrontEnd, Sample};
     pub use crate::irradiance::{Calibration, Meter, MeterConfig};
     pub use crate::journal::checkpoint::{CheckpointConfig, Checkpointer};

@@ -16,11 +16,11 @@
 
 use hosttests::fixtures::round_meter;
 use hosttests::flash::SimFlash;
-use photon_ledger::acquire::autorange::{AutorangeConfigError, AutorangeError};
 use photon_ledger::control::plausibility::{
     Plausibility, PlausibilityConfig, PlausibilityConfigError,
 };
 use photon_ledger::control::session::{SessionConfigError, SessionError};
+use photon_ledger::frontend::autorange::{AutorangeConfigError, AutorangeError};
 use photon_ledger::frontend::FrontEndError;
 use photon_ledger::irradiance::calibration::{
     self, accept, check, AcceptError, CalibrationRecord, CalibrationSource, Check, Day,

@@ -19,6 +19,7 @@ use crate::quantity::{
     PhotonIrradiance, RadiantExposure, Responsivity,
 };
 use crate::spectral::band::{Band, BandError, BandFactors};
+use crate::spectral::spectrum::SpectralFactors;
 
 /// How photocurrent becomes irradiance.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -65,6 +66,17 @@ fn positive(v: f64) -> bool {
 }
 
 impl Calibration {
+    /// The calibration from a spectral computation: the detector's effective responsivity
+    /// over the source's band ([`SpectralFactors::effective_responsivity`]) and the active
+    /// area (finite, > 0; checked when the [`Meter`] is built).
+    #[must_use]
+    pub const fn from_spectral(factors: &SpectralFactors, active_area: Area) -> Self {
+        Self::Responsivity {
+            responsivity: factors.effective_responsivity(),
+            active_area,
+        }
+    }
+
     /// The calibration as one factor, (W/m²)/A.
     ///
     /// # Errors

@@ -68,7 +68,6 @@ pub use crate::spectral::table::{
 };
 pub use air::{air_refractivity, air_to_vacuum, mercury_air_nm};
 
-use crate::irradiance::Calibration;
 use crate::quantity::{si, Area, IrradiancePerCurrent, Responsivity, Wavelength};
 use crate::spectral::action::Weighting;
 use crate::spectral::band::{snap_nm, Band, BandFactors};
@@ -410,15 +409,6 @@ impl SpectralFactors {
         }
         let k = finite(1.0 / (self.effective_responsivity.a_per_w() * a))?;
         Ok(IrradiancePerCurrent::from_w_per_m2_per_a(k))
-    }
-
-    /// The [`Calibration`] for the [`Meter`](crate::irradiance::Meter): R_eff and the area.
-    #[must_use]
-    pub const fn calibration(&self, active_area: Area) -> Calibration {
-        Calibration::Responsivity {
-            responsivity: self.effective_responsivity,
-            active_area,
-        }
     }
 
     /// Photons per joule of band energy, 1/J.

@@ -248,7 +248,7 @@ fn detector_chain_reproduces_the_sensor_check() {
     let k = f.irradiance_per_current(Area::from_mm2(1.0)).unwrap();
     assert!(rel(2.0e-6 * k.w_per_m2_per_a(), 10.0) < 1e-12);
     assert_eq!(
-        f.calibration(Area::from_mm2(1.0))
+        crate::irradiance::Calibration::from_spectral(&f, Area::from_mm2(1.0))
             .factor()
             .unwrap()
             .w_per_m2_per_a(),

@@ -6,8 +6,8 @@
 use core::hint::black_box;
 
 use cortex_m_rt::entry;
-use photon_ledger::acquire::autorange::AutorangeError;
-use photon_ledger::acquire::autorange::{Autorange, AutorangeConfig};
+use photon_ledger::frontend::autorange::AutorangeError;
+use photon_ledger::frontend::autorange::{Autorange, AutorangeConfig};
 use photon_ledger::prelude::*;
 
 #[path = "../nopanic/common.rs"]

@@ -247,7 +247,7 @@ fn spectral() {
                 black_box(f.photons_per_j());
                 black_box(f.mol_per_j());
                 black_box(f.band_factors());
-                black_box(f.calibration(Area::from_mm2(1.0)));
+                black_box(Calibration::from_spectral(&f, Area::from_mm2(1.0)));
                 for a in [1.0, 0.0] {
                     match f.irradiance_per_current(Area::from_mm2(black_box(a))) {
                         Ok(k) => {

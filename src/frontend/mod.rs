@@ -18,6 +18,11 @@
 //! **saturated**: the true signal is unknown, so it is flagged ([`CodeFault`]) and never used
 //! as a value. For a unipolar converter the bottom rail is a legitimate dark reading and is not
 //! flagged.
+//!
+//! [`autorange`] chooses the next amplifier range from each [`Sample`], with hysteresis, and
+//! drives the analog switch.
+
+pub mod autorange;
 
 use crate::acquire::reading::{RangeIndex, Reading};
 use crate::quantity::{Current, Transimpedance, Voltage};
