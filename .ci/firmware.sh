@@ -103,8 +103,8 @@ done
 # --------------------------------------------------------------------------------------
 # Firmware builds
 # --------------------------------------------------------------------------------------
-EXAMPLES="curing irq footprint footprint_full hotpath"
-NOPANIC="nopanic_frontend_meter nopanic_integrator nopanic_session nopanic_autorange nopanic_journal nopanic_exposure nopanic_curing nopanic_spectral nopanic_photochem"
+EXAMPLES="curing irq footprint footprint_full hotpath profile_meter profile_f64"
+NOPANIC="nopanic_frontend_meter nopanic_profile nopanic_integrator nopanic_session nopanic_autorange nopanic_journal nopanic_exposure nopanic_curing nopanic_spectral nopanic_photochem"
 step "firmware builds (release, opt-level s, fat LTO)"
 for t in "$V6" "$V7"; do
     bins=""
@@ -207,6 +207,10 @@ if [ "$have_qemu" = 1 ]; then
         run_example "$t" irq -icount shift=0
         run_example "$t" footprint
         run_example "$t" footprint_full
+        # The meter from a host-computed profile, and its twin configured on the device
+        # (which checks on the target that both give the same profile).
+        run_example "$t" profile_meter
+        run_example "$t" profile_f64
         # defmt: binary log on stdout, decoded with defmt-print.
         dlog="$WORK/defmt_log-$t.bin"
         if qemu "$t" "$(elf "$t" defmt_log)" >"$dlog" 2>"$WORK/defmt_log-$t.err"; then
@@ -254,26 +258,33 @@ fi
 # Exact instruction counts: one Trace line per executed instruction
 # --------------------------------------------------------------------------------------
 # Soft-float routines: every compiler-builtins float routine (the __aeabi_* float names,
-# including the integer-to-float conversions and the cdcmp/cfcmp compares, the libgcc-style
-# __addsf3 … __unorddf2, __float*/__fix*/__extend*/__trunc*, __powi*, complex __muldc3 …),
-# the libm names compiler-builtins exports on targets without a C library (fmax, sqrt, exp,
-# …, and their f32 twins), and any Rust-mangled function of compiler_builtins::float,
-# compiler_builtins::math or the libm crate. The hot path's positive controls (markers 10-13)
-# prove the pattern sees a multiply and an integer conversion.
-count_between() { # count_between LOG BEGIN END -> "instructions soft_float_instructions"
-    awk -v B="$2" -v E="$3" '
+# including the integer-to-float conversions, the half-precision ones and the cdcmp/cfcmp
+# compares; the libgcc-style __addsf3 … __unorddf2 for half, single, double, quad and
+# extended precision, __float*/__fix*/__extend*/__trunc*, __powi*, complex __muldc3 …,
+# __gnu_h2f_ieee/__gnu_f2h_ieee), the libm names compiler-builtins exports on targets
+# without a C library (fmax, sqrt, exp, …, and their f32/f16/f128 twins), and any function
+# of compiler_builtins::float, compiler_builtins::math or the libm crate, mangled (legacy or
+# v0) or demangled. One awk function, used by the instruction counts (executed
+# instructions) and by the profile link check (linked symbols). The hot path's positive
+# controls (markers 10-13) prove the pattern sees a multiply and an integer conversion; the
+# link check's control is profile_f64, which must be seen to link soft float.
+SOFTFLOAT_AWK='
         function softfloat(s) {
-            if (s ~ /^__aeabi_([dfc]|u?i2[df]|u?l2[df])/) return 1
-            if (s ~ /^__(add|sub|mul|div)[sdtx]f3(vfp)?$/) return 1
-            if (s ~ /^__neg[sdtx]f2(vfp)?$/) return 1
-            if (s ~ /^__(eq|ne|lt|le|gt|ge|un|unord|cmp)[sdtx]f2(vfp)?$/) return 1
+            if (s ~ /^__aeabi_([dfch]|u?i2[dfh]|u?l2[dfh])/) return 1
+            if (s ~ /^__gnu_(h2f|f2h)_ieee$/) return 1
+            if (s ~ /^__(add|sub|mul|div)[hsdtxk]f3(vfp)?$/) return 1
+            if (s ~ /^__neg[hsdtxk]f2(vfp)?$/) return 1
+            if (s ~ /^__(eq|ne|lt|le|gt|ge|un|unord|cmp)[hsdtxk]f2(vfp)?$/) return 1
             if (s ~ /^__(float|fix|extend|trunc)[a-z0-9]*$/) return 1
-            if (s ~ /^__powi[sdtx]f2$/) return 1
-            if (s ~ /^__(mul|div)[sdtx]c3$/) return 1
-            if (s ~ /^(fmax|fmin|fmaximum|fminimum|fdim|fabs|copysign|sqrt|cbrt|hypot|exp|exp2|exp10|expm1|log|log2|log10|log1p|pow|sin|cos|tan|sincos|asin|acos|atan|atan2|sinh|cosh|tanh|asinh|acosh|atanh|floor|ceil|round|roundeven|trunc|rint|nearbyint|lrint|lround|fma|fmod|remainder|remquo|modf|frexp|ldexp|scalbn|ilogb|logb|nextafter|erf|erfc|tgamma|lgamma|lgamma_r|j0|j1|jn|y0|y1|yn)(f|f16|f128)?$/) return 1
-            if (s ~ /compiler_builtins5float|compiler_builtins4math|4libm4math/) return 1
+            if (s ~ /^__powi[hsdtxk]f2$/) return 1
+            if (s ~ /^__(mul|div)[hsdtxk]c3$/) return 1
+            if (s ~ /^(fmax|fmin|fmaximum|fminimum|fmaximum_num|fminimum_num|fdim|fabs|copysign|sqrt|cbrt|hypot|exp|exp2|exp10|expm1|log|log2|log10|log1p|pow|sin|cos|tan|sincos|asin|acos|atan|atan2|sinh|cosh|tanh|asinh|acosh|atanh|floor|ceil|round|roundeven|trunc|rint|nearbyint|lrint|lround|llrint|llround|fma|fmod|remainder|remquo|modf|frexp|ldexp|scalbn|scalbln|ilogb|logb|nextafter|nexttoward|erf|erfc|tgamma|lgamma|lgamma_r|j0|j1|jn|y0|y1|yn|significand|drem|gamma|exp10|pow10)(f|l|f16|f128)?$/) return 1
+            if (s ~ /^lgamma(f|l|f16|f128)_r$/) return 1
+            if (s ~ /compiler_builtins5float|compiler_builtins4math|4libm4math|4libm4libm|compiler_builtins::float|compiler_builtins::math|(^|[^a-z_])libm::/) return 1
             return 0
-        }
+        }'
+count_between() { # count_between LOG BEGIN END -> "instructions soft_float_instructions"
+    awk -v B="$2" -v E="$3" "$SOFTFLOAT_AWK"'
         /^Trace/ {
             sym = $NF
             if (sym == B) { inside = 1; n = 0; sf = 0; next }
@@ -332,7 +343,7 @@ fi
 if [ "$have_size" = 1 ]; then
     step "sizes (arm-none-eabi-size)"
     for t in "$V6" "$V7"; do
-        for b in footprint footprint_full curing irq defmt_log; do
+        for b in footprint footprint_full curing irq defmt_log profile_meter profile_f64; do
             if ! read -r text data bss _ < <(arm-none-eabi-size "$(elf "$t" "$b")" | tail -1) ||
                 ! [[ "$text$data$bss" =~ ^[0-9]+$ ]]; then
                 fail "size of $b on $t not read"
@@ -343,6 +354,36 @@ if [ "$have_size" = 1 ]; then
             FIG[ram_${b}_$t]=$((data + bss))
         done
     done
+fi
+
+# --------------------------------------------------------------------------------------
+# Soft-float link check: a meter built from a profile links no float routine at all
+# --------------------------------------------------------------------------------------
+if [ "$have_size" = 1 ]; then
+    step "soft-float symbols linked (arm-none-eabi-nm): profile_meter none, profile_f64 (control) some"
+    for t in "$V6" "$V7"; do
+        for b in profile_meter profile_f64; do
+            list="$WORK/softfloat-$b-$t.txt"
+            if ! arm-none-eabi-nm "$(elf "$t" "$b")" >"$WORK/nm-$b-$t.txt"; then
+                fail "arm-none-eabi-nm $b on $t"
+                continue
+            fi
+            awk "$SOFTFLOAT_AWK"' NF >= 2 && softfloat($NF) { print $NF }' \
+                "$WORK/nm-$b-$t.txt" | sort -u >"$list"
+            FIG[softfloat_link_${b}_$t]=$(wc -l <"$list" | tr -d ' ')
+        done
+        n_meter=${FIG[softfloat_link_profile_meter_$t]:-}
+        n_f64=${FIG[softfloat_link_profile_f64_$t]:-}
+        echo "  $t: profile_meter ${n_meter:-?} soft-float symbols, profile_f64 ${n_f64:-?} ($(head -6 "$WORK/softfloat-profile_f64-$t.txt" 2>/dev/null | tr '\n' ' ')...)"
+        if ! [[ "$n_f64" =~ ^[0-9]+$ ]] || [ "$n_f64" -le 0 ]; then
+            fail "soft-float link control on $t: profile_f64 links f64 arithmetic and libm, but the filter found ${n_f64:-nothing}"
+        fi
+        if [ "$n_meter" != 0 ]; then
+            sed 's/^/    links: /' "$WORK/softfloat-profile_meter-$t.txt" 2>/dev/null | head -20
+        fi
+    done
+    FIG[softfloat_link_m0]=${FIG[softfloat_link_profile_meter_$V6]:-}
+    FIG[softfloat_link_m4f]=${FIG[softfloat_link_profile_meter_$V7]:-}
 fi
 
 # --------------------------------------------------------------------------------------
@@ -399,6 +440,9 @@ if [ "$have_size" = 1 ]; then
     check flash_pipeline_controller_m0 "${FIG[text_footprint_$V6]:-}"
     check flash_full_curing_m0 "${FIG[text_footprint_full_$V6]:-}"
     check ram_static_footprint_m0 "${FIG[ram_footprint_$V6]:-}"
+    check flash_profile_meter_m0 "${FIG[text_profile_meter_$V6]:-}"
+    check profile_meter_soft_float_symbols_m0 "${FIG[softfloat_link_m0]:-}"
+    check profile_meter_soft_float_symbols_m4f "${FIG[softfloat_link_m4f]:-}"
 fi
 echo
 echo "reported, no budget:"
@@ -415,5 +459,7 @@ printf '  %-40s %s\n' \
     "text: defmt example, M0 / M4F" "${FIG[text_defmt_log_$V6]:-?} / ${FIG[text_defmt_log_$V7]:-?}" \
     "data+bss: curing / irq, M0" "${FIG[ram_curing_$V6]:-?} / ${FIG[ram_irq_$V6]:-?}" \
     "text: full curing firmware (journal + export), M4F" "${FIG[text_footprint_full_$V7]:-?}" \
+    "text: meter from a profile / configured in f64 (profile_meter / profile_f64), M0" "${FIG[text_profile_meter_$V6]:-?} / ${FIG[text_profile_f64_$V6]:-?}" \
+    "text: meter from a profile / configured in f64, M4F" "${FIG[text_profile_meter_$V7]:-?} / ${FIG[text_profile_f64_$V7]:-?}" \
 
 finish

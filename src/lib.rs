@@ -161,6 +161,7 @@ pub mod frontend;
 pub mod irradiance;
 pub mod journal;
 pub mod photochem;
+pub mod profile;
 pub mod references;
 
 /// This library's version (`CARGO_PKG_VERSION`), for reports that must name what they ran.

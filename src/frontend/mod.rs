@@ -228,6 +228,33 @@ impl FrontEnd {
         })
     }
 
+    /// A front end from values validated elsewhere (a [`MeterProfile`], checked with integer
+    /// arithmetic only): no floating-point operation.
+    ///
+    /// [`MeterProfile`]: crate::profile::MeterProfile
+    pub(crate) const fn from_parts(
+        (min_code, max_code): (i32, i32),
+        (low_limit, high_limit): (i32, i32),
+        volts_per_code: f64,
+        ranges: heapless::Vec<AmplifierRange, MAX_RANGES>,
+    ) -> Self {
+        Self {
+            min_code,
+            max_code,
+            low_limit,
+            high_limit,
+            volts_per_code,
+            ranges,
+        }
+    }
+
+    /// The lowest code counted as saturated at the low rail (`i32::MIN` for a unipolar
+    /// converter, which has no low saturation).
+    #[must_use]
+    pub const fn low_limit(&self) -> i32 {
+        self.low_limit
+    }
+
     /// Number of amplifier ranges (1 ..= [`MAX_RANGES`]).
     #[must_use]
     pub fn range_count(&self) -> usize {

@@ -126,6 +126,13 @@ impl BandFactors {
         (photons_per_j.is_finite() && photons_per_j > 0.0).then_some(Self { photons_per_j })
     }
 
+    /// Band factors from a value checked elsewhere to be finite and > 0 (a
+    /// [`MeterProfile`](crate::profile::MeterProfile), checked on its bits): no floating-point
+    /// operation.
+    pub(crate) const fn from_checked_photons_per_j(photons_per_j: f64) -> Self {
+        Self { photons_per_j }
+    }
+
     /// Photons per joule of radiant energy in this band, 1/J.
     #[must_use]
     pub const fn photons_per_j(&self) -> f64 {

@@ -15,6 +15,7 @@ use cortex_m_semihosting::{debug, hprintln};
 use photon_ledger::prelude::*;
 
 pub mod markers;
+pub mod profile_const;
 pub mod stack;
 
 // ---------------------------------------------------------------------------------------

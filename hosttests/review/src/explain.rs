@@ -1,15 +1,21 @@
 //! `explain`: the factors a configuration reduces to, so a user can check them by hand.
 //!
 //! Every number comes from the library's own configuration objects (`FrontEnd`, `Meter`,
-//! `BandFactors`, `to_exposure`), i.e. the constants firmware multiplies by.
+//! `BandFactors`, `to_exposure`), i.e. the constants firmware multiplies by. With
+//! `--profile`, the same numbers become a meter profile ([`profile`], [`profile_const`]):
+//! bytes in a new file and a Rust `const` on standard output, for a firmware that builds its
+//! meter without computing in `f64`.
 
 use photon_ledger::control::session::to_exposure;
+use photon_ledger::dose::Rounding;
 use photon_ledger::prelude::*;
+use photon_ledger::profile::{MeterProfile, PROFILE_LEN, PROFILE_VERSION};
 use photon_ledger::quantity::{si, Seconds};
 use photon_ledger::spectral::weighting::UV_INDEX_PER_W_PER_M2;
 use serde::Serialize;
 
 use super::config::ReviewConfig;
+use super::error::ReviewError;
 use super::report::sig;
 
 /// One derived value.
@@ -275,5 +281,176 @@ pub fn to_text(cfg: &ReviewConfig) -> String {
         }
         let _ = writeln!(s, "  {:<62} {:>16} {}", x.name, sig(x.value), x.unit);
     }
+    s
+}
+
+/// The meter profile of `cfg` (`explain --profile`): the meter and the session's two
+/// thresholds — the target (rounded so the stop is never early) and the target plus its
+/// tolerance (rounded so the alarm is never late) — converted for every range, as
+/// `Session::new` converts them on the device.
+///
+/// # Errors
+/// A target or tolerance that does not convert, or a profile field out of its range.
+pub fn profile(cfg: &ReviewConfig) -> Result<MeterProfile, ReviewError> {
+    let m = &cfg.meter;
+    let bad = |what: &str, e: String| {
+        ReviewError::Other(format!("{}: {what}: {e}; no profile written", cfg.file))
+    };
+    let target = to_exposure(m, cfg.session.target).map_err(|e| bad("target", e.to_string()))?;
+    let tolerance =
+        to_exposure(m, cfg.session.tolerance).map_err(|e| bad("tolerance", e.to_string()))?;
+    MeterProfile::new(
+        m,
+        &[
+            (target, Rounding::NotBefore),
+            (target + tolerance, Rounding::NotAfter),
+        ],
+    )
+    .map_err(|e| bad("profile", e.to_string()))
+}
+
+fn bits_line(s: &mut String, indent: &str, name: &str, bits: u64, unit: &str) {
+    use std::fmt::Write;
+    let _ = writeln!(
+        s,
+        "{indent}{name}: 0x{bits:016X}, // {} {unit}",
+        f64::from_bits(bits)
+    );
+}
+
+/// The profile as Rust source: a `const` a firmware builds its meter from with
+/// `Meter::from_profile(&PROFILE)`. `bytes_file` names the file holding the same profile's
+/// bytes (for the comment).
+pub fn profile_const(cfg: &ReviewConfig, p: &MeterProfile, bytes_file: &str) -> String {
+    use std::fmt::Write;
+    let bytes = p.to_bytes();
+    let crc = bytes
+        .get(PROFILE_LEN - 4..)
+        .and_then(|c| <[u8; 4]>::try_from(c).ok())
+        .map_or(0, u32::from_le_bytes);
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "// Meter profile made by photon-review explain --profile (photon-ledger {}) from\n\
+         // {} (SHA-256 {}).\n\
+         // The same profile as bytes: {bytes_file} ({PROFILE_LEN} bytes, format version \
+         {PROFILE_VERSION}, CRC-32 0x{crc:08X}).\n\
+         // Thresholds: 0 = the session target, 1 = target + tolerance.",
+        photon_ledger::VERSION,
+        cfg.file,
+        cfg.sha256
+    );
+    let _ = writeln!(s, "pub const PROFILE: MeterProfile = MeterProfile {{");
+    let _ = writeln!(s, "    codes: ({}, {}),", p.codes.0, p.codes.1);
+    let low = if p.saturation_limits.0 == i32::MIN {
+        "i32::MIN".to_string()
+    } else {
+        p.saturation_limits.0.to_string()
+    };
+    let _ = writeln!(
+        s,
+        "    saturation_limits: ({low}, {}),",
+        p.saturation_limits.1
+    );
+    bits_line(
+        &mut s,
+        "    ",
+        "volts_per_code_bits",
+        p.volts_per_code_bits,
+        "V",
+    );
+    bits_line(
+        &mut s,
+        "    ",
+        "calibration_bits",
+        p.calibration_bits,
+        "W/m² per A",
+    );
+    bits_line(
+        &mut s,
+        "    ",
+        "photons_per_j_bits",
+        p.photons_per_j_bits,
+        "1/J",
+    );
+    if p.sample_area_m2_bits == 0 {
+        let _ = writeln!(s, "    sample_area_m2_bits: 0, // none");
+    } else {
+        bits_line(
+            &mut s,
+            "    ",
+            "sample_area_m2_bits",
+            p.sample_area_m2_bits,
+            "m²",
+        );
+    }
+    let _ = writeln!(s, "    tick_hz: {},", p.tick_hz);
+    let _ = writeln!(s, "    range_count: {},", p.range_count);
+    let _ = writeln!(s, "    ranges: [");
+    for (i, r) in p.ranges.iter().enumerate() {
+        if i >= usize::from(p.range_count) {
+            let _ = writeln!(
+                s,
+                "        ProfileRange {{ transimpedance_bits: 0, dark_offset: 0, \
+                 w_per_m2_per_code_bits: 0, unit_mantissa: 0, unit_exponent: 0 }}, // unused"
+            );
+            continue;
+        }
+        let _ = writeln!(s, "        ProfileRange {{");
+        bits_line(
+            &mut s,
+            "            ",
+            "transimpedance_bits",
+            r.transimpedance_bits,
+            "V/A",
+        );
+        let _ = writeln!(s, "            dark_offset: {},", r.dark_offset);
+        bits_line(
+            &mut s,
+            "            ",
+            "w_per_m2_per_code_bits",
+            r.w_per_m2_per_code_bits,
+            "W/m² per code",
+        );
+        let scale = if r.unit_mantissa == 0 {
+            String::new()
+        } else {
+            format!(
+                " // J/m² per unit = {} · 2^{}",
+                r.unit_mantissa, r.unit_exponent
+            )
+        };
+        let _ = writeln!(s, "            unit_mantissa: {},{scale}", r.unit_mantissa);
+        let _ = writeln!(s, "            unit_exponent: {},", r.unit_exponent);
+        let _ = writeln!(s, "        }},");
+    }
+    let _ = writeln!(s, "    ],");
+    let _ = writeln!(s, "    threshold_count: {},", p.threshold_count);
+    let _ = writeln!(s, "    thresholds: [");
+    for (i, t) in p.thresholds.iter().enumerate() {
+        if i >= usize::from(p.threshold_count) {
+            let _ = writeln!(
+                s,
+                "        ProfileThreshold {{ level_j_per_m2_bits: 0, rounding: \
+                 Rounding::NotBefore, limits: [0; {}] }}, // unused",
+                t.limits.len()
+            );
+            continue;
+        }
+        let _ = writeln!(s, "        ProfileThreshold {{");
+        bits_line(
+            &mut s,
+            "            ",
+            "level_j_per_m2_bits",
+            t.level_j_per_m2_bits,
+            "J/m²",
+        );
+        let _ = writeln!(s, "            rounding: Rounding::{:?},", t.rounding);
+        let limits: Vec<String> = t.limits.iter().map(i64::to_string).collect();
+        let _ = writeln!(s, "            limits: [{}],", limits.join(", "));
+        let _ = writeln!(s, "        }},");
+    }
+    let _ = writeln!(s, "    ],");
+    let _ = writeln!(s, "}};");
     s
 }

@@ -10,7 +10,10 @@
 //!   files, all temporaries are written before the first rename, so an error while writing
 //!   leaves every old file as it was and no temporary behind;
 //! - an output that is a symbolic link to a regular file replaces the file it points to (the
-//!   link stays).
+//!   link stays);
+//! - a *new-file* output ([`write_new`], the meter profile of `explain --profile`) is never
+//!   written over anything: it is refused if the name exists, and the temporary is linked
+//!   into place only if the name is still free at that moment.
 //!
 //! **Inputs**: whole-file inputs ([`read_limited`]) are read up to a documented size, and a
 //! sample file through [`LineLimit`], which refuses a line longer than [`MAX_LINE_BYTES`]
@@ -412,4 +415,43 @@ pub fn write_outputs_with(
 /// As [`write_outputs_with`].
 pub fn write_outputs(files: &[(&str, &[u8])], inputs: &[&str]) -> Result<(), ReviewError> {
     write_outputs_with(files, Vec::new(), inputs)
+}
+
+/// Write `contents` to the **new** file `path` (a command whose inputs are `inputs`): refused
+/// if `path` exists (whatever it is) or is an input; written to a temporary in the same
+/// directory, flushed, and linked into place only if the name is still free then, so an
+/// existing file is never replaced and no half-written file is ever visible under `path`.
+///
+/// # Errors
+/// An existing or refused output (nothing written), an error writing the temporary (nothing
+/// written, no temporary left), or the name taken while writing (nothing written).
+pub fn write_new(path: &str, contents: &[u8], inputs: &[&str]) -> Result<(), ReviewError> {
+    if std::fs::symlink_metadata(path).is_ok() {
+        return Err(ReviewError::Other(format!(
+            "{path}: exists; this output is only ever written as a new file (name another \
+             file or remove it); nothing was written"
+        )));
+    }
+    let mut s = stage_target(target(path, inputs)?)?;
+    s.tmp.write_all(contents).map_err(|e| s.nothing(e))?;
+    s.tmp.as_file().sync_all().map_err(|e| s.nothing(e))?;
+    let Staged {
+        named,
+        path,
+        dir,
+        tmp,
+    } = s;
+    if let Err(e) = tmp.persist_noclobber(&path) {
+        let why = if e.error.kind() == std::io::ErrorKind::AlreadyExists {
+            "created by someone else while this one was written".to_string()
+        } else {
+            e.error.to_string()
+        };
+        return Err(ReviewError::Other(format!(
+            "{named}: {why} (linking its temporary file into place); nothing was written"
+        )));
+    }
+    sync_dir(&dir);
+    note_written(&named);
+    Ok(())
 }

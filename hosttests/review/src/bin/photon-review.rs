@@ -264,6 +264,12 @@ enum Command {
         /// Same as `--format json`.
         #[arg(long)]
         json: bool,
+        /// Also write the meter profile (the meter and the session's thresholds, computed
+        /// here, for a firmware that builds its meter with `Meter::from_profile`) to this
+        /// new file, and print it as a Rust `const` instead of the factors. Never written
+        /// over an existing file.
+        #[arg(long, conflicts_with_all = ["json", "format"])]
+        profile: Option<String>,
     },
     /// The exposure register (SQLite): import sessions, answer questions.
     Register {
@@ -670,10 +676,15 @@ fn run(cli: Cli, out: &mut Out) -> Result<Done, ReviewError> {
             config,
             json: json_flag,
             format,
+            profile,
         } => {
             let j = json_flag || format == TextJson::Json;
             let cfg = config::load(&config)?;
-            if j {
+            if let Some(path) = profile {
+                let p = explain::profile(&cfg)?;
+                files::write_new(&path, &p.to_bytes(), &[config.as_str()])?;
+                out.say(&explain::profile_const(&cfg, &p, &path))?;
+            } else if j {
                 out.say(&json(&explain::factors(&cfg))?)?;
                 out.say("\n")?;
             } else {
