@@ -5,6 +5,7 @@
 //! | [`config`] | the session configuration file (TOML), validated into the library's types |
 //! | [`samples`] | the sample file (CSV) → the library's `Reading`s |
 //! | [`replay`] | samples through the library's `Session`; statistics, events, plot series |
+//! | [`curing`] | a recorded curing run through the library's `CuringController`: a verdict per part |
 //! | [`report`] | the report (JSON with documented keys, and text) |
 //! | [`plot`] | the SVG plot |
 //! | [`simulate`] | sample files from the simulation models, for named scenarios |
