@@ -103,7 +103,8 @@ fn fold_open<'a>(bodies: impl Iterator<Item = &'a Body>) -> Option<OpenSession> 
                 }
             }
             Body::Restate(o) => open = Some(*o),
-            Body::Event(_) => {}
+            // Events and the format 1.1 kinds open and close no session.
+            _ => {}
         }
     }
     open

@@ -127,7 +127,8 @@ impl<F: NorFlash> Journal<F> {
             }
             Body::Restate(o) => self.open = Some(*o),
             Body::End(_) => self.open = None,
-            Body::Event(_) => {}
+            // Events and the kinds of format 1.1 open and close no session.
+            _ => {}
         }
     }
 

@@ -35,10 +35,12 @@
 use embedded_hal::digital::OutputPin;
 
 use crate::acquire::reading::{RangeIndex, TickRate, Ticks};
-use crate::control::session::{to_exposure, Session, SessionConfig};
+use crate::control::session::{
+    to_exposure, Outcome, PauseCause, PauseSummary, Phase, Session, SessionConfig,
+};
 use crate::irradiance::Meter;
 use crate::journal::record::{
-    CalibrationId, Checkpoint, ConfigDigest, Event, EventCode, SessionEnd, SessionId,
+    CalibrationId, Checkpoint, ConfigDigest, Event, EventCode, PauseRecord, SessionEnd, SessionId,
     SessionOutcome, SessionStart, StoredExposure, StoredIrradiance, StoredWavelength,
 };
 use crate::quantity::{Irradiance, RadiantExposure};
@@ -329,6 +331,60 @@ impl Checkpointer {
             code,
             detail,
         }
+    }
+
+    /// The event of a pause that begins at `at` with `delivered` so far
+    /// ([`EventCode::PausedByCommand`] or [`EventCode::PausedByInterlock`]); counted for the
+    /// end summary. Write it when [`Session::pause`] returns, or when a reading paused the
+    /// session ([`Checkpointer::reading_events`]).
+    pub fn pause_event(
+        &mut self,
+        at: Ticks,
+        delivered: RadiantExposure,
+        cause: PauseCause,
+    ) -> Event {
+        let code = match cause {
+            PauseCause::Command => EventCode::PausedByCommand,
+            PauseCause::Interlock => EventCode::PausedByInterlock,
+        };
+        self.event(at, delivered, code, 0)
+    }
+
+    /// The event of milestone `index` (from 0) reached at `at` ([`EventCode::Milestone`],
+    /// detail = the index); counted for the end summary.
+    pub fn milestone_event(&mut self, at: Ticks, delivered: RadiantExposure, index: u16) -> Event {
+        self.event(at, delivered, EventCode::Milestone, u32::from(index))
+    }
+
+    /// The pause record of a completed pause (what [`Session::resume`] returned): cause,
+    /// start, dark time, dose at the pause and the leak (rounded up); counted as an event for
+    /// the end summary.
+    pub fn pause_record(&mut self, pause: &PauseSummary) -> PauseRecord {
+        self.events = self.events.saturating_add(1);
+        PauseRecord::of(self.session, pause)
+    }
+
+    /// The events one reading calls for, from the session's phase before the reading, its
+    /// pause cause after it ([`Session::pause_cause`]) and the reading's [`Outcome`]: a pause
+    /// the interlock caused, then a milestone reached (each `None` if not). `delivered` is
+    /// the dose after the reading.
+    pub fn reading_events(
+        &mut self,
+        before: Phase,
+        cause_after: Option<PauseCause>,
+        outcome: &Outcome,
+        at: Ticks,
+        delivered: RadiantExposure,
+    ) -> [Option<Event>; 2] {
+        let paused = (before == Phase::Exposing && cause_after == Some(PauseCause::Interlock))
+            .then(|| self.pause_event(at, delivered, PauseCause::Interlock));
+        let milestone = match outcome {
+            Outcome::Integrated {
+                milestone: Some(k), ..
+            } => Some(self.milestone_event(at, delivered, *k)),
+            _ => None,
+        };
+        [paused, milestone]
     }
 
     /// The end record (summary) of the current session.

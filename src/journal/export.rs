@@ -15,21 +15,38 @@
 //! | `detail` | | | detail | |
 //! | `elapsed_ticks`, `events` | | | | summary |
 //! | `target_J_per_m2` … `interval_ticks` | identity | | | |
+//! | `data` | | | | |
+//!
+//! The kinds of format 1.1 use the same columns where they fit and a last column `data`
+//! (empty for the kinds above): `key=value` pairs separated by `;`, lists separated by `|`.
+//!
+//! | kind | `tick` | `dose_J_per_m2` | `code` | `detail` | other columns | `data` |
+//! | --- | --- | --- | --- | --- | --- | --- |
+//! | `part` | end | delivered | stop: `target`, `target_timer`, `fault:…`, `paused`, `ended` | part number | `elapsed_ticks` (end − start), `events`, `target_J_per_m2` | `part`, `lot`, `recipe`, `start_tick`, `after_stop_J_per_m2`, `paused_J_per_m2` (mJ/m² resolution, rounded up), `first_fault`, `faults` |
+//! | `pause` | pause began | dose at the pause | `pause:command`, `pause:interlock` | dark ticks | | `leak_J_per_m2` (rounded up), `resume_tick` |
+//! | `exposure_state` | snapshot | window total (sum of the segments, rounded up) | `alarm_latched` or empty | gaps | | `window_J_per_m2` (8 segments, newest first), `segment_buckets`, `bucket_ticks`, `shift_J_per_m2`, `shift_gap_J_per_m2`, `active_levels` |
+//! | `unmonitored` | boot | | `off_known`, `off_unknown` | sequence number of the state restored (0 none) | `tick_rate_Hz` | `off_ticks` (`unknown`) |
+//! | `curing_state` | snapshot | | latched alarm `fault:…` or empty | | | `parts_finished`, `lamp_parts`, `lamp_ratios` (oldest first, 6 decimals) |
+//!
+//! A label's bytes outside the allowed set (written by other firmware) are printed as `\xNN`.
 
 use core::fmt::Write;
 
 use embedded_storage::nor_flash::NorFlash;
 
 use super::{Journal, JournalError};
+use crate::control::curing::Label;
+use crate::control::exposure::OffTime;
 use crate::journal::record::{
-    Body, EventCode, FaultCode, Record, SessionOutcome, SessionStart, StoredExposure,
-    StoredIrradiance, WarningCode,
+    Body, CuringSnapshot, EventCode, ExposureSnapshot, FaultCode, PartTrace, PauseCode,
+    PauseRecord, Record, SessionOutcome, SessionStart, StopCode, StoredExposure, StoredIrradiance,
+    UnmonitoredInterval, WarningCode,
 };
 
 /// The CSV header line (without the line end).
 pub const CSV_HEADER: &str = "seq,kind,session,tick,dose_J_per_m2,bound_J_per_m2,\
 irr_min_W_per_m2,irr_mean_W_per_m2,irr_max_W_per_m2,code,detail,elapsed_ticks,events,\
-target_J_per_m2,tick_rate_Hz,wavelength_nm,config_digest,calibration_id,interval_ticks";
+target_J_per_m2,tick_rate_Hz,wavelength_nm,config_digest,calibration_id,interval_ticks,data";
 
 /// Why an export stopped.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -93,6 +110,11 @@ pub fn write_csv_line<W: Write>(out: &mut W, r: &Record) -> core::fmt::Result {
         Body::Event(_) => "event",
         Body::End(_) => "end",
         Body::Restate(_) => "restate",
+        Body::Part(_) => "part",
+        Body::Pause(_) => "pause",
+        Body::ExposureState(_) => "exposure_state",
+        Body::Unmonitored(_) => "unmonitored",
+        Body::CuringState(_) => "curing_state",
     };
     write!(out, "{},{},{},", r.seq, kind, r.body.session().0)?;
     match r.body {
@@ -147,8 +169,199 @@ pub fn write_csv_line<W: Write>(out: &mut W, r: &Record) -> core::fmt::Result {
             outcome_name(out, e.outcome)?;
             write!(out, ",,{},{},,,,,,", e.elapsed_ticks, e.events)?;
         }
+        Body::Part(t) => return part_line(out, &t),
+        Body::Pause(p) => return pause_line(out, &p),
+        Body::ExposureState(x) => return exposure_line(out, &x),
+        Body::Unmonitored(u) => return unmonitored_line(out, &u),
+        Body::CuringState(c) => return curing_line(out, &c),
+    }
+    // The `data` column is empty for the kinds of format 1.0.
+    out.write_str(",\n")
+}
+
+fn part_line<W: Write>(out: &mut W, t: &PartTrace) -> core::fmt::Result {
+    write!(out, "{},", t.end.0)?;
+    exposure(out, t.delivered)?;
+    out.write_str(",,,,,")?;
+    stop_name(out, t.stop, t.stop_fault)?;
+    write!(
+        out,
+        ",{},{},{},",
+        t.part.0,
+        t.end.wrapping_since(t.start),
+        t.events
+    )?;
+    exposure(out, t.target)?;
+    out.write_str(",,,,,,part=")?;
+    label(out, &t.identity.part)?;
+    out.write_str(";lot=")?;
+    label(out, &t.identity.lot)?;
+    out.write_str(";recipe=")?;
+    label(out, &t.identity.recipe)?;
+    write!(out, ";start_tick={};after_stop_J_per_m2=", t.start.0)?;
+    millis(out, t.after_stop_mj_per_m2)?;
+    out.write_str(";paused_J_per_m2=")?;
+    millis(out, t.paused_mj_per_m2)?;
+    out.write_str(";first_fault=")?;
+    if let Some(f) = t.first_fault {
+        fault_code_name(out, f)?;
+    }
+    out.write_str(";faults=")?;
+    for (i, f) in t.faults().enumerate() {
+        if i > 0 {
+            out.write_char('|')?;
+        }
+        fault_code_name(out, f)?;
     }
     out.write_str("\n")
+}
+
+fn pause_line<W: Write>(out: &mut W, p: &PauseRecord) -> core::fmt::Result {
+    write!(out, "{},", p.started.0)?;
+    exposure(out, p.at_pause)?;
+    out.write_str(",,,,,")?;
+    pause_name(out, p.cause)?;
+    write!(out, ",{},,,,,,,,,leak_J_per_m2=", p.dark_ticks)?;
+    exposure(out, p.leak)?;
+    writeln!(
+        out,
+        ";resume_tick={}",
+        p.started.wrapping_add(p.dark_ticks).0
+    )
+}
+
+fn exposure_line<W: Write>(out: &mut W, x: &ExposureSnapshot) -> core::fmt::Result {
+    let s = &x.state;
+    let total = s
+        .window_uj_per_m2
+        .iter()
+        .fold(0u64, |a, &v| a.saturating_add(v));
+    write!(out, "{},", x.at.0)?;
+    exposure(out, StoredExposure::from_uj_per_m2(total))?;
+    out.write_str(",,,,,")?;
+    if s.latched {
+        out.write_str("alarm_latched")?;
+    }
+    write!(out, ",{},,,,,,,,,window_J_per_m2=", s.gaps)?;
+    for (i, &v) in s.window_uj_per_m2.iter().enumerate() {
+        if i > 0 {
+            out.write_char('|')?;
+        }
+        exposure(out, StoredExposure::from_uj_per_m2(v))?;
+    }
+    write!(
+        out,
+        ";segment_buckets={};bucket_ticks={};shift_J_per_m2=",
+        s.segment_buckets, s.bucket_ticks
+    )?;
+    exposure(out, StoredExposure::from_uj_per_m2(s.shift_uj_per_m2))?;
+    out.write_str(";shift_gap_J_per_m2=")?;
+    exposure(out, StoredExposure::from_uj_per_m2(s.shift_gap_uj_per_m2))?;
+    writeln!(out, ";active_levels={:#04x}", s.active)
+}
+
+fn unmonitored_line<W: Write>(out: &mut W, u: &UnmonitoredInterval) -> core::fmt::Result {
+    let known = match u.off {
+        OffTime::Ticks(_) => "off_known",
+        OffTime::Unknown => "off_unknown",
+    };
+    write!(
+        out,
+        "{},,,,,,{known},{},,,,{},,,,,off_ticks=",
+        u.at.0, u.restored_from, u.tick_rate_hz
+    )?;
+    match u.off {
+        OffTime::Ticks(t) => writeln!(out, "{t}"),
+        OffTime::Unknown => out.write_str("unknown\n"),
+    }
+}
+
+fn curing_line<W: Write>(out: &mut W, c: &CuringSnapshot) -> core::fmt::Result {
+    write!(out, "{},,,,,,", c.at.0)?;
+    if let Some(f) = c.alarm {
+        out.write_str("fault:")?;
+        fault_code_name(out, f)?;
+    }
+    write!(
+        out,
+        ",,,,,,,,,,parts_finished={};lamp_parts={};lamp_ratios=",
+        c.parts_finished, c.lamp_parts
+    )?;
+    let len = usize::from(c.lamp_len);
+    for (i, &ppm) in c.lamp_ratios_ppm.iter().take(len).enumerate() {
+        if i > 0 {
+            out.write_char('|')?;
+        }
+        let sign = if ppm < 0 { "-" } else { "" };
+        let a = ppm.unsigned_abs();
+        write!(out, "{sign}{}.{:06}", a / 1_000_000, a % 1_000_000)?;
+    }
+    out.write_str("\n")
+}
+
+/// A label's text; bytes outside the allowed set as `\xNN`.
+fn label<W: Write>(out: &mut W, l: &Label) -> core::fmt::Result {
+    for &b in l.text_bytes() {
+        if Label::allowed(b) {
+            out.write_char(char::from(b))?;
+        } else {
+            write!(out, "\\x{b:02x}")?;
+        }
+    }
+    Ok(())
+}
+
+/// mJ/m² as J/m² with 3 decimals.
+fn millis<W: Write>(out: &mut W, mj: u32) -> core::fmt::Result {
+    write!(out, "{}.{:03}", mj / 1000, mj % 1000)
+}
+
+/// A fault reason's name, or `0x` and two hex digits for one this version does not name.
+fn fault_code_name<W: Write>(out: &mut W, f: FaultCode) -> core::fmt::Result {
+    match f {
+        FaultCode::Other(c) => write!(out, "{c:#04x}"),
+        f => out.write_str(fault_name(f)),
+    }
+}
+
+/// Write the name a curing stop has in the CSV `code` column of a part record (`target`,
+/// `target_timer`, `fault:light_not_off`, `paused`, `ended`; a code this version does not
+/// name as `0x` and two hex digits).
+///
+/// # Errors
+/// The writer's error.
+pub fn stop_name<W: Write>(
+    out: &mut W,
+    s: StopCode,
+    fault: Option<FaultCode>,
+) -> core::fmt::Result {
+    match s {
+        StopCode::Target => out.write_str("target"),
+        StopCode::TargetTimer => out.write_str("target_timer"),
+        StopCode::Fault => {
+            out.write_str("fault:")?;
+            match fault {
+                Some(f) => fault_code_name(out, f),
+                None => out.write_str("unknown"),
+            }
+        }
+        StopCode::Paused => out.write_str("paused"),
+        StopCode::Ended => out.write_str("ended"),
+        StopCode::Other(c) => write!(out, "{c:#04x}"),
+    }
+}
+
+/// Write the name a pause cause has in the CSV `code` column of a pause record
+/// (`pause:command`, `pause:interlock`; `pause:0xNN` for a cause this version does not name).
+///
+/// # Errors
+/// The writer's error.
+pub fn pause_name<W: Write>(out: &mut W, c: PauseCode) -> core::fmt::Result {
+    match c {
+        PauseCode::Command => out.write_str("pause:command"),
+        PauseCode::Interlock => out.write_str("pause:interlock"),
+        PauseCode::Other(x) => write!(out, "pause:{x:#04x}"),
+    }
 }
 
 fn exposure<W: Write>(out: &mut W, h: StoredExposure) -> core::fmt::Result {
@@ -196,6 +409,10 @@ pub fn fault_name(f: FaultCode) -> &'static str {
         FaultCode::Storage => "storage",
         FaultCode::Implausible => "implausible",
         FaultCode::InterlockPin => "interlock-pin",
+        FaultCode::LightNotOff => "light_not_off",
+        FaultCode::IrradianceLow => "irradiance_low",
+        FaultCode::IrradianceHigh => "irradiance_high",
+        FaultCode::Overexposure => "overexposure",
         FaultCode::Other(_) => "other",
     }
 }
@@ -213,6 +430,9 @@ pub fn event_name<W: Write>(out: &mut W, c: EventCode) -> core::fmt::Result {
         EventCode::Resumed => out.write_str("resumed"),
         EventCode::InterlockOpened => out.write_str("interlock_opened"),
         EventCode::InterlockClosed => out.write_str("interlock_closed"),
+        EventCode::PausedByCommand => out.write_str("paused:command"),
+        EventCode::PausedByInterlock => out.write_str("paused:interlock"),
+        EventCode::Milestone => out.write_str("milestone"),
         EventCode::Fault(FaultCode::Other(_))
         | EventCode::Warning(WarningCode::Other(_))
         | EventCode::Other(_) => write!(out, "{:#06x}", c.code()),
@@ -281,7 +501,7 @@ mod tests {
         assert_eq!(line.split(',').count(), header_cols);
         assert_eq!(
             line,
-            "9,checkpoint,3,1500,12.000005,512.000006,-0.007,499.999,-2147483.648,,,,,,,,,,"
+            "9,checkpoint,3,1500,12.000005,512.000006,-0.007,499.999,-2147483.648,,,,,,,,,,,"
         );
     }
 }

@@ -70,7 +70,8 @@ impl<F: NorFlash> Journal<F> {
                                     s.checkpoint_after = Some(c);
                                 }
                             }
-                            Body::Event(_) => {}
+                            // Events and the kinds of format 1.1 open and close no session.
+                            _ => {}
                         }
                     }
                     s.last_seq = Some(seq);

@@ -544,6 +544,21 @@ pub struct RecordReport {
     /// The latest checkpoint a restatement carries (absent if the session had none yet).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub restated_checkpoint: Option<Box<RecordReport>>,
+    /// A curing part (format 1.1).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub part: Option<super::decode_kinds::PartReport>,
+    /// A completed pause (format 1.1).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub pause: Option<super::decode_kinds::PauseReport>,
+    /// An exposure monitor's state (format 1.1).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub exposure_state: Option<super::decode_kinds::ExposureStateReport>,
+    /// An unmonitored interval (format 1.1).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub unmonitored: Option<super::decode_kinds::UnmonitoredReport>,
+    /// A curing controller's state (format 1.1).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub curing_state: Option<super::decode_kinds::CuringStateReport>,
 }
 
 /// One event.
@@ -744,6 +759,11 @@ fn record_report(r: &Record, start: Option<&SessionStart>) -> RecordReport {
             events: Some(e.events),
             ..RecordReport::default()
         },
+        Body::Part(_)
+        | Body::Pause(_)
+        | Body::ExposureState(_)
+        | Body::Unmonitored(_)
+        | Body::CuringState(_) => super::decode_kinds::report(r).unwrap_or_default(),
     };
     out.seq = r.seq;
     out.session = r.body.session().0;
@@ -1282,6 +1302,12 @@ fn analyse(cx: &Ctx<'_>, states: &[SectorState], m: Mounted) -> Result<Decoded, 
                     a.last_delivered = Some(e.delivered);
                     a.last_tick = Some(e.at.0);
                 }
+                // Format 1.1 kinds are listed as records (and in the text summary).
+                Body::Part(_)
+                | Body::Pause(_)
+                | Body::ExposureState(_)
+                | Body::Unmonitored(_)
+                | Body::CuringState(_) => {}
             }
         } else if let Body::Event(e) = &r.body {
             outside.push(EventReport {
@@ -1566,6 +1592,17 @@ impl Decoded {
                     " (start record recycled; restated)"
                 }
             );
+        }
+        let kinds: Vec<String> = self
+            .records
+            .iter()
+            .filter_map(super::decode_kinds::text_line)
+            .collect();
+        if !kinds.is_empty() {
+            let _ = writeln!(s, "parts, pauses and states: {}", kinds.len());
+            for l in kinds {
+                let _ = writeln!(s, "  {l}");
+            }
         }
         if !self.events_outside_sessions.is_empty() {
             let _ = writeln!(

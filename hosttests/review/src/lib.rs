@@ -11,6 +11,7 @@
 //! | [`simulate`] | sample files from the simulation models, for named scenarios |
 //! | [`explain`] | the derived factors of a configuration |
 //! | [`decode`] | a raw flash image of the journal → records (CSV, JSON) and a session summary |
+//! | [`decode_kinds`] | the record kinds of format 1.1 (parts, pauses, states) in the decoder's output |
 //! | [`demo_image`] | a demonstration flash image written by the real journal on the simulated flash |
 //! | [`register`] | the exposure register (SQLite): import sessions, answer questions |
 //! | [`files`] | bounded reads of inputs; outputs checked against inputs, written atomically |
@@ -21,6 +22,7 @@
 pub mod config;
 pub mod curing;
 pub mod decode;
+pub mod decode_kinds;
 pub mod demo_image;
 pub mod error;
 pub mod explain;

@@ -52,8 +52,13 @@ impl CuringFault {
         )
     }
 
-    pub(super) const fn kind_bit(self) -> u16 {
-        1 << match self {
+    /// The index of this fault's kind, 0 ..= 11, in the order the variants are declared
+    /// (`IrradianceLow` 0, `IrradianceHigh` 1, `Overexposure` 2, `LightNotOff` 3,
+    /// `InterlockPin` 4, `Output` 5, `Saturated` 6, `BadCode` 7, `TimeBackwards` 8, `Gap` 9,
+    /// `Sensor` 10, `Aborted` 11): the bit of [`PartRecord::fault_kinds`].
+    #[must_use]
+    pub const fn kind_index(self) -> u32 {
+        match self {
             Self::IrradianceLow => 0,
             Self::IrradianceHigh => 1,
             Self::Overexposure => 2,
@@ -67,6 +72,10 @@ impl CuringFault {
             Self::Sensor => 10,
             Self::Aborted => 11,
         }
+    }
+
+    pub(super) const fn kind_bit(self) -> u16 {
+        1 << self.kind_index()
     }
 }
 

@@ -133,11 +133,11 @@ pub use config::{
     ActuatorLag, CuringConfig, CuringConfigError, FallPoint, FallProfile, IrradianceLimit,
     IrradianceWindow, LampReference, LightOffCheck, StopPolicy,
 };
-pub use controller::CuringController;
+pub use controller::{CuringController, CuringState};
 pub use events::{
     CuringError, CuringFault, CuringPhase, Events, SampleUse, StopReason, TimerOutcome, Update,
 };
-pub use part::{LampTrend, PartId, PartRecord};
+pub use part::{Label, LabelError, LampTrend, PartId, PartIdentity, PartRecord, LABEL_LEN};
 
 /// The error of a [`CuringController`] with enable pin `EN`, alarm pin `AL` and interlock
 /// input `IL`, each with its own error type.

@@ -11,6 +11,118 @@ use super::*;
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct PartId(pub u32);
 
+/// Length of a [`Label`] on flash and in RAM, bytes.
+pub const LABEL_LEN: usize = 16;
+
+/// A fixed-size identifier of a part, a lot or a recipe: 0 to [`LABEL_LEN`] (16) bytes of
+/// printable ASCII without `,` `"` `\` `;` `=` `|` (so a CSV cell, its `key=value;` list or a
+/// JSON string never needs quoting), padded with `0x00`. Chosen by the integrator (a barcode, a lot number, a recipe
+/// name); recorded, never interpreted.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Hash)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Label([u8; LABEL_LEN]);
+
+/// Why bytes are not a [`Label`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum LabelError {
+    /// Longer than [`LABEL_LEN`] bytes.
+    TooLong,
+    /// The byte at this index is not allowed (control, non-ASCII, `,` `"` `\` `;` `=` `|`).
+    Character(u8),
+}
+
+impl core::fmt::Display for LabelError {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        match self {
+            Self::TooLong => f.write_str("label longer than 16 bytes"),
+            Self::Character(i) => write!(
+                f,
+                "label byte {i} is not printable ASCII or is one of , \" \\ ; = |"
+            ),
+        }
+    }
+}
+
+impl core::error::Error for LabelError {}
+
+impl Label {
+    /// The empty label (all `0x00`).
+    pub const EMPTY: Self = Self([0; LABEL_LEN]);
+
+    /// Whether a byte may appear in a label: printable ASCII (`0x20 ..= 0x7E`) except
+    /// `,` `"` `\` `;` `=` `|`.
+    #[must_use]
+    pub const fn allowed(b: u8) -> bool {
+        matches!(b, 0x20..=0x7E) && !matches!(b, b',' | b'"' | b'\\' | b';' | b'=' | b'|')
+    }
+
+    /// A label from text of at most [`LABEL_LEN`] allowed bytes.
+    ///
+    /// # Errors
+    /// [`LabelError::TooLong`], [`LabelError::Character`] (index of the first bad byte).
+    pub fn new(text: &str) -> Result<Self, LabelError> {
+        let b = text.as_bytes();
+        if b.len() > LABEL_LEN {
+            return Err(LabelError::TooLong);
+        }
+        let mut out = [0u8; LABEL_LEN];
+        for (i, (d, &s)) in (0u8..).zip(out.iter_mut().zip(b)) {
+            if !Self::allowed(s) {
+                return Err(LabelError::Character(i));
+            }
+            *d = s;
+        }
+        Ok(Self(out))
+    }
+
+    /// The label of stored bytes, as read (a record may come from other firmware; the bytes
+    /// are kept exactly, see [`Label::text_bytes`]).
+    #[must_use]
+    pub const fn from_bytes(bytes: [u8; LABEL_LEN]) -> Self {
+        Self(bytes)
+    }
+
+    /// The stored bytes, with the `0x00` padding.
+    #[must_use]
+    pub const fn bytes(&self) -> &[u8; LABEL_LEN] {
+        &self.0
+    }
+
+    /// The bytes before the first `0x00` (the text).
+    #[must_use]
+    pub fn text_bytes(&self) -> &[u8] {
+        let n = self.0.iter().position(|&b| b == 0).unwrap_or(LABEL_LEN);
+        self.0.get(..n).unwrap_or(&[])
+    }
+
+    /// The text, if every byte before the padding is allowed (always for a label made with
+    /// [`Label::new`]).
+    #[must_use]
+    pub fn as_str(&self) -> Option<&str> {
+        let t = self.text_bytes();
+        if t.iter().all(|&b| Self::allowed(b)) {
+            core::str::from_utf8(t).ok()
+        } else {
+            None
+        }
+    }
+}
+
+/// What a part is, for traceability: its part, lot and recipe [`Label`]s, given at the start
+/// of the part ([`CuringController::start_identified`]) and kept in its [`PartRecord`] and the
+/// journal's part record.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Hash)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct PartIdentity {
+    /// The part (serial number, barcode).
+    pub part: Label,
+    /// The production lot (of the part or of the resin).
+    pub lot: Label,
+    /// The process recipe (resin, programme).
+    pub recipe: Label,
+}
+
 /// The summary of one part: plain `Copy` data for the journal.
 ///
 /// Doses are [`RadiantExposure`] (read them with `.mj_per_cm2()` or `.j_per_m2()`),
@@ -20,6 +132,9 @@ pub struct PartId(pub u32);
 pub struct PartRecord {
     /// The caller's part number.
     pub part: PartId,
+    /// Part, lot and recipe labels given at the start (empty with
+    /// [`CuringController::start`]).
+    pub identity: PartIdentity,
     /// Tick of the start command.
     pub start: Ticks,
     /// Tick of the command that turned the light off for good (stop, pause or fault), or of
@@ -54,6 +169,8 @@ pub struct PartRecord {
     pub fault: Option<CuringFault>,
     /// Number of distinct fault kinds in this part.
     pub faults: u8,
+    /// Every fault kind of this part: bit [`CuringFault::kind_index`] of each.
+    pub fault_kinds: u16,
     /// Number of events raised in this part.
     pub events: u16,
     /// Every event raised in this part.
@@ -89,6 +206,7 @@ pub(super) struct OffCheck {
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(super) struct PartState {
     pub(super) id: PartId,
+    pub(super) identity: PartIdentity,
     pub(super) start: Ticks,
     pub(super) exposing_since: Ticks,
     pub(super) exposing_entry_j: f64,
@@ -120,6 +238,7 @@ impl PartState {
     pub(super) fn new(id: PartId, now: Ticks) -> Self {
         Self {
             id,
+            identity: PartIdentity::default(),
             start: now,
             exposing_since: now,
             exposing_entry_j: 0.0,

@@ -7,8 +7,14 @@ use core::ops::Range;
 
 use crate::acquire::reading::Ticks;
 
-use super::codes::{EventCode, SessionOutcome};
-use super::kinds::{Body, Checkpoint, Event, OpenSession, SessionEnd, SessionStart};
+use crate::control::curing::{Label, PartId, PartIdentity, LABEL_LEN, LAMP_HISTORY};
+use crate::control::exposure::{ExposureState, OffTime, STATE_SEGMENTS};
+
+use super::codes::{EventCode, FaultCode, PauseCode, SessionOutcome, StopCode};
+use super::kinds::{
+    Body, Checkpoint, CuringSnapshot, Event, ExposureSnapshot, OpenSession, PartTrace, PauseRecord,
+    SessionEnd, SessionStart, UnmonitoredInterval,
+};
 use super::stored::{
     CalibrationId, ConfigDigest, SessionId, StoredExposure, StoredIrradiance, StoredWavelength,
 };
@@ -33,6 +39,11 @@ impl Body {
             Kind::Event => payload::event::LEN,
             Kind::End => payload::end::LEN,
             Kind::Restate => payload::restate::LEN,
+            Kind::Part => payload::part::LEN,
+            Kind::Pause => payload::pause::LEN,
+            Kind::ExposureState => payload::exposure_state::LEN,
+            Kind::Unmonitored => payload::unmonitored::LEN,
+            Kind::CuringState => payload::curing_state::LEN,
         };
         if p.len() < need {
             return Err(RecordError::BadLength);
@@ -70,6 +81,52 @@ impl Body {
                     max: StoredIrradiance(get_i32(p, f::MAX_MW_PER_M2)),
                     outcome: SessionOutcome::from_code(get_u16(p, f::OUTCOME)),
                     events: get_u16(p, f::EVENTS),
+                })
+            }
+            Kind::Part => Self::Part(parse_part(p)),
+            Kind::Pause => {
+                use payload::pause as f;
+                Self::Pause(PauseRecord {
+                    session: SessionId(get_u32(p, f::SESSION)),
+                    started: Ticks(get_u32(p, f::STARTED_TICK)),
+                    dark_ticks: get_u32(p, f::DARK_TICKS),
+                    at_pause: StoredExposure(get_u64(p, f::AT_PAUSE_UJ_PER_M2)),
+                    leak: StoredExposure(get_u64(p, f::LEAK_UJ_PER_M2)),
+                    cause: PauseCode::from_code(byte(p, f::CAUSE)),
+                })
+            }
+            Kind::ExposureState => Self::ExposureState(parse_exposure(p)),
+            Kind::Unmonitored => {
+                use payload::unmonitored as f;
+                let ticks = get_u64(p, f::OFF_TICKS);
+                Self::Unmonitored(UnmonitoredInterval {
+                    session: SessionId(get_u32(p, f::SESSION)),
+                    at: Ticks(get_u32(p, f::TICK)),
+                    tick_rate_hz: get_u32(p, f::TICK_RATE_HZ),
+                    off: if byte(p, f::OFF_KNOWN) == 0 {
+                        OffTime::Unknown
+                    } else {
+                        OffTime::Ticks(ticks)
+                    },
+                    restored_from: get_u32(p, f::RESTORED_FROM),
+                })
+            }
+            Kind::CuringState => {
+                use payload::curing_state as f;
+                let mut ratios = [0i32; LAMP_HISTORY];
+                for (i, r) in ratios.iter_mut().enumerate() {
+                    let at = f::LAMP_RATIOS_PPM.start + 4 * i;
+                    *r = get_i32(p, at..at + 4);
+                }
+                Self::CuringState(CuringSnapshot {
+                    session: SessionId(get_u32(p, f::SESSION)),
+                    at: Ticks(get_u32(p, f::TICK)),
+                    parts_finished: get_u32(p, f::PARTS_FINISHED),
+                    lamp_parts: get_u32(p, f::LAMP_PARTS),
+                    // A larger count (not written by this crate) is clamped.
+                    lamp_len: byte(p, f::LAMP_LEN).min(LAMP_HISTORY as u8),
+                    lamp_ratios_ppm: ratios,
+                    alarm: fault(byte(p, f::ALARM)),
                 })
             }
         })
@@ -121,8 +178,188 @@ impl Body {
                 put(p, f::OUTCOME, &e.outcome.code().to_le_bytes());
                 put(p, f::EVENTS, &e.events.to_le_bytes());
             }
+            Self::Part(t) => emit_part(p, t),
+            Self::Pause(x) => {
+                use payload::pause as f;
+                put(p, f::SESSION, &x.session.0.to_le_bytes());
+                put(p, f::STARTED_TICK, &x.started.0.to_le_bytes());
+                put(p, f::DARK_TICKS, &x.dark_ticks.to_le_bytes());
+                put(p, f::AT_PAUSE_UJ_PER_M2, &x.at_pause.0.to_le_bytes());
+                put(p, f::LEAK_UJ_PER_M2, &x.leak.0.to_le_bytes());
+                set_byte(p, f::CAUSE, x.cause.code());
+            }
+            Self::ExposureState(x) => emit_exposure(p, x),
+            Self::Unmonitored(u) => {
+                use payload::unmonitored as f;
+                put(p, f::SESSION, &u.session.0.to_le_bytes());
+                put(p, f::TICK, &u.at.0.to_le_bytes());
+                put(p, f::TICK_RATE_HZ, &u.tick_rate_hz.to_le_bytes());
+                let (known, ticks) = match u.off {
+                    OffTime::Unknown => (0, 0),
+                    OffTime::Ticks(t) => (1, t),
+                };
+                put(p, f::OFF_TICKS, &ticks.to_le_bytes());
+                set_byte(p, f::OFF_KNOWN, known);
+                put(p, f::RESTORED_FROM, &u.restored_from.to_le_bytes());
+            }
+            Self::CuringState(c) => {
+                use payload::curing_state as f;
+                put(p, f::SESSION, &c.session.0.to_le_bytes());
+                put(p, f::TICK, &c.at.0.to_le_bytes());
+                put(p, f::PARTS_FINISHED, &c.parts_finished.to_le_bytes());
+                put(p, f::LAMP_PARTS, &c.lamp_parts.to_le_bytes());
+                set_byte(p, f::LAMP_LEN, c.lamp_len);
+                set_byte(p, f::ALARM, c.alarm.map_or(0, FaultCode::code));
+                for (i, r) in c.lamp_ratios_ppm.iter().enumerate() {
+                    let at = f::LAMP_RATIOS_PPM.start + 4 * i;
+                    put(p, at..at + 4, &r.to_le_bytes());
+                }
+            }
         }
         Ok(())
+    }
+}
+
+/// A stored fault reason byte: 0 is none.
+fn fault(c: u8) -> Option<FaultCode> {
+    (c != 0).then(|| FaultCode::from_code(c))
+}
+
+fn label(p: &[u8], range: Range<usize>) -> Label {
+    Label::from_bytes(get::<LABEL_LEN>(p, range))
+}
+
+fn parse_part(p: &[u8]) -> PartTrace {
+    use payload::part as f;
+    PartTrace {
+        session: SessionId(get_u32(p, f::SESSION)),
+        part: PartId(get_u32(p, f::PART_NUMBER)),
+        identity: PartIdentity {
+            part: label(p, f::PART_LABEL),
+            lot: label(p, f::LOT_LABEL),
+            recipe: label(p, f::RECIPE_LABEL),
+        },
+        start: Ticks(get_u32(p, f::START_TICK)),
+        end: Ticks(get_u32(p, f::END_TICK)),
+        delivered: StoredExposure(get_u64(p, f::DELIVERED_UJ_PER_M2)),
+        target: StoredExposure(get_u64(p, f::TARGET_UJ_PER_M2)),
+        after_stop_mj_per_m2: get_u32(p, f::AFTER_STOP_MJ_PER_M2),
+        paused_mj_per_m2: get_u32(p, f::PAUSED_MJ_PER_M2),
+        stop: StopCode::from_code(byte(p, f::STOP)),
+        stop_fault: fault(byte(p, f::STOP_FAULT)),
+        first_fault: fault(byte(p, f::FIRST_FAULT)),
+        fault_kinds: get_u16(p, f::FAULT_KINDS),
+        events: get_u16(p, f::EVENTS),
+    }
+}
+
+fn emit_part(p: &mut [u8], t: &PartTrace) {
+    use payload::part as f;
+    put(p, f::SESSION, &t.session.0.to_le_bytes());
+    put(p, f::PART_NUMBER, &t.part.0.to_le_bytes());
+    put(p, f::PART_LABEL, t.identity.part.bytes());
+    put(p, f::LOT_LABEL, t.identity.lot.bytes());
+    put(p, f::RECIPE_LABEL, t.identity.recipe.bytes());
+    put(p, f::START_TICK, &t.start.0.to_le_bytes());
+    put(p, f::END_TICK, &t.end.0.to_le_bytes());
+    put(p, f::DELIVERED_UJ_PER_M2, &t.delivered.0.to_le_bytes());
+    put(p, f::TARGET_UJ_PER_M2, &t.target.0.to_le_bytes());
+    put(
+        p,
+        f::AFTER_STOP_MJ_PER_M2,
+        &t.after_stop_mj_per_m2.to_le_bytes(),
+    );
+    put(p, f::PAUSED_MJ_PER_M2, &t.paused_mj_per_m2.to_le_bytes());
+    set_byte(p, f::STOP, t.stop.code());
+    set_byte(p, f::STOP_FAULT, t.stop_fault.map_or(0, FaultCode::code));
+    set_byte(p, f::FIRST_FAULT, t.first_fault.map_or(0, FaultCode::code));
+    put(p, f::FAULT_KINDS, &t.fault_kinds.to_le_bytes());
+    put(p, f::EVENTS, &t.events.to_le_bytes());
+}
+
+/// The largest decimal scale of the window segments (10¹⁰ µJ/m² units: `u64::MAX` µJ/m²
+/// fits a `u32` count).
+const MAX_SCALE: u8 = 10;
+
+/// `10^e` for `e` ≤ 19 (`u64::MAX` above).
+const fn pow10(e: u8) -> u64 {
+    let mut v = 1u64;
+    let mut i = 0;
+    while i < e {
+        v = match v.checked_mul(10) {
+            Some(x) => x,
+            None => return u64::MAX,
+        };
+        i += 1;
+    }
+    v
+}
+
+fn emit_exposure(p: &mut [u8], x: &ExposureSnapshot) {
+    use payload::exposure_state as f;
+    let s = &x.state;
+    let max = s.window_uj_per_m2.iter().copied().max().unwrap_or(0);
+    let mut scale = 0u8;
+    while scale < MAX_SCALE && max.div_ceil(pow10(scale)) > u64::from(u32::MAX) {
+        scale += 1;
+    }
+    let unit = pow10(scale);
+    put(p, f::SESSION, &x.session.0.to_le_bytes());
+    put(p, f::TICK, &x.at.0.to_le_bytes());
+    for (i, &uj) in s.window_uj_per_m2.iter().enumerate() {
+        // Rounded up: read back, a segment is never below the one written.
+        let v = u32::try_from(uj.div_ceil(unit)).unwrap_or(u32::MAX);
+        let at = f::WINDOW.start + 4 * i;
+        put(p, at..at + 4, &v.to_le_bytes());
+    }
+    set_byte(p, f::SCALE, scale);
+    set_byte(p, f::ACTIVE, s.active);
+    set_byte(p, f::LATCHED, u8::from(s.latched));
+    put(p, f::SEGMENT_BUCKETS, &s.segment_buckets.to_le_bytes());
+    put(p, f::BUCKET_TICKS, &s.bucket_ticks.to_le_bytes());
+    put(p, f::SHIFT_UJ_PER_M2, &s.shift_uj_per_m2.to_le_bytes());
+    put(
+        p,
+        f::SHIFT_GAP_UJ_PER_M2,
+        &s.shift_gap_uj_per_m2.to_le_bytes(),
+    );
+    put(p, f::GAPS, &s.gaps.to_le_bytes());
+}
+
+fn parse_exposure(p: &[u8]) -> ExposureSnapshot {
+    use payload::exposure_state as f;
+    let unit = pow10(byte(p, f::SCALE));
+    let mut window = [0u64; STATE_SEGMENTS];
+    for (i, w) in window.iter_mut().enumerate() {
+        let at = f::WINDOW.start + 4 * i;
+        // Saturating: a scale beyond 19 (not written by this crate) reads as the maximum,
+        // never as less.
+        *w = u64::from(get_u32(p, at..at + 4)).saturating_mul(unit);
+    }
+    ExposureSnapshot {
+        session: SessionId(get_u32(p, f::SESSION)),
+        at: Ticks(get_u32(p, f::TICK)),
+        state: ExposureState {
+            window_uj_per_m2: window,
+            segment_buckets: get_u32(p, f::SEGMENT_BUCKETS),
+            bucket_ticks: get_u64(p, f::BUCKET_TICKS),
+            shift_uj_per_m2: get_u64(p, f::SHIFT_UJ_PER_M2),
+            shift_gap_uj_per_m2: get_u64(p, f::SHIFT_GAP_UJ_PER_M2),
+            gaps: get_u32(p, f::GAPS),
+            active: byte(p, f::ACTIVE),
+            // Any non-zero byte is latched (the safe reading of a value not written here).
+            latched: byte(p, f::LATCHED) != 0,
+        },
+    }
+}
+
+fn byte(p: &[u8], at: usize) -> u8 {
+    p.get(at).copied().unwrap_or(0)
+}
+
+fn set_byte(p: &mut [u8], at: usize, v: u8) {
+    if let Some(b) = p.get_mut(at) {
+        *b = v;
     }
 }
 

@@ -20,8 +20,8 @@
 //! | bytes | field | meaning |
 //! | --- | --- | --- |
 //! | [`field::MAGIC`] | magic | always [`MAGIC`] (`0xD7`); never `0x00` or `0xFF` |
-//! | [`field::VERSION`] | version | high nibble major, low nibble minor; this crate writes [`VERSION`] (1.0) |
-//! | [`field::KIND`] | kind | [`Kind`]: 1 start, 2 checkpoint, 3 event, 4 end, 5 restatement |
+//! | [`field::VERSION`] | version | high nibble major, low nibble minor; this crate writes [`VERSION`] (1.1) |
+//! | [`field::KIND`] | kind | [`Kind`]: 1 start, 2 checkpoint, 3 event, 4 end, 5 restatement; from 1.1: 6 curing part, 7 pause, 8 exposure state, 9 unmonitored interval, 10 curing state |
 //! | [`field::FLAGS`] | flags | reserved: written 0, ignored by readers (a minor version may define bits) |
 //! | [`field::SEQUENCE`] | sequence | record sequence number, +1 per record, starts at 1 |
 //! | [`field::LENGTH`] | length | payload length in bytes, ≤ [`MAX_PAYLOAD_LEN`] |
@@ -59,6 +59,21 @@
 //! - A format change is a semver-breaking change of this crate when it bumps the major
 //!   format version, a minor crate release when it bumps the minor format version.
 //!
+//! - [`MAX_PAYLOAD_LEN`] (96 bytes) is part of the frozen header contract: a reader rejects a
+//!   longer length field as [`RecordError::BadLength`] (a torn or foreign record), so a minor
+//!   version can never add a kind longer than that — an older reader would stop at it
+//!   instead of skipping it.
+//!
+//! # Versions
+//!
+//! | version | change |
+//! | --- | --- |
+//! | 1.0 | kinds 1–5; fault reasons 1–10; event groups `0x00`–`0x03` |
+//! | 1.1 | kinds 6 curing part (95 B), 7 pause (29 B), 8 exposure state (75 B), 9 unmonitored interval (25 B), 10 curing state (82 B); fault reasons `0x20`–`0x23` (light not off, irradiance low/high, overexposure); events `0x0401`/`0x0402` paused (command/interlock), `0x0410` milestone |
+//!
+//! A 1.0 reader skips kinds 6–10 ([`RecordError::UnknownKind`]) and shows the new codes as
+//! `Other`; nothing else changed.
+//!
 //! # No panics
 //!
 //! [`RecordView::new_checked`] checks the buffer length against the header once; every
@@ -75,8 +90,13 @@ mod stored;
 
 pub(crate) use codec::{get_u16, get_u32, put_u16, put_u32};
 pub use codec::{Record, RecordView};
-pub use codes::{EventCode, FaultCode, SessionOutcome, WarningCode};
-pub use kinds::{Body, Checkpoint, Event, OpenSession, SessionEnd, SessionStart};
+pub use codes::{
+    EventCode, FaultCode, PauseCode, SessionOutcome, StopCode, WarningCode, CURING_FAULT_BITS,
+};
+pub use kinds::{
+    Body, Checkpoint, CuringSnapshot, Event, ExposureSnapshot, OpenSession, PartTrace, PauseRecord,
+    SessionEnd, SessionStart, UnmonitoredInterval,
+};
 pub use stored::{
     CalibrationId, ConfigDigest, SessionId, StoredExposure, StoredIrradiance, StoredWavelength,
 };
@@ -86,7 +106,7 @@ pub const MAGIC: u8 = 0xD7;
 /// Major format version written and understood by this crate.
 pub const VERSION_MAJOR: u8 = 1;
 /// Minor format version written by this crate.
-pub const VERSION_MINOR: u8 = 0;
+pub const VERSION_MINOR: u8 = 1;
 /// The version byte written by this crate (major in the high nibble).
 pub const VERSION: u8 = (VERSION_MAJOR << 4) | VERSION_MINOR;
 /// Header length in bytes (frozen for every version).
@@ -166,7 +186,8 @@ impl core::fmt::Display for RecordError {
 
 impl core::error::Error for RecordError {}
 
-/// Record kinds of format version 1.
+/// Record kinds of format version 1 (kinds 6 ..= 10 from version 1.1; kinds 11 ..= 255 are
+/// unknown to this version and skipped).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub enum Kind {
@@ -180,6 +201,16 @@ pub enum Kind {
     End = 4,
     /// Restatement of the open session (5).
     Restate = 5,
+    /// A finished curing part (6, format 1.1).
+    Part = 6,
+    /// A completed pause (7, format 1.1).
+    Pause = 7,
+    /// An exposure monitor's state (8, format 1.1).
+    ExposureState = 8,
+    /// An unmonitored interval (9, format 1.1).
+    Unmonitored = 9,
+    /// A curing controller's state (10, format 1.1).
+    CuringState = 10,
 }
 
 impl Kind {
@@ -192,6 +223,11 @@ impl Kind {
             3 => Some(Self::Event),
             4 => Some(Self::End),
             5 => Some(Self::Restate),
+            6 => Some(Self::Part),
+            7 => Some(Self::Pause),
+            8 => Some(Self::ExposureState),
+            9 => Some(Self::Unmonitored),
+            10 => Some(Self::CuringState),
             _ => None,
         }
     }

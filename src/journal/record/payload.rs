@@ -98,3 +98,126 @@ pub mod end {
     /// Payload length in version 1.0.
     pub const LEN: usize = 36;
 }
+/// Curing part (kind 6, format 1.1), 95 bytes: identity, dose, stop reason and faults of a
+/// finished part. Labels are 16 bytes each, printable ASCII padded with `0x00`.
+pub mod part {
+    use core::ops::Range;
+    /// Session id (0 if the part is not logged as a session), u32.
+    pub const SESSION: Range<usize> = 0..4;
+    /// The caller's part number, u32.
+    pub const PART_NUMBER: Range<usize> = 4..8;
+    /// Part label, 16 bytes.
+    pub const PART_LABEL: Range<usize> = 8..24;
+    /// Lot label, 16 bytes.
+    pub const LOT_LABEL: Range<usize> = 24..40;
+    /// Recipe label, 16 bytes.
+    pub const RECIPE_LABEL: Range<usize> = 40..56;
+    /// Tick of the start command, u32.
+    pub const START_TICK: Range<usize> = 56..60;
+    /// Tick of the last integrated reading, u32.
+    pub const END_TICK: Range<usize> = 60..64;
+    /// Dose delivered, rounded down, µJ/m², u64.
+    pub const DELIVERED_UJ_PER_M2: Range<usize> = 64..72;
+    /// Target, rounded up, µJ/m², u64.
+    pub const TARGET_UJ_PER_M2: Range<usize> = 72..80;
+    /// Dose after the stop command, rounded up, mJ/m², u32 (saturating).
+    pub const AFTER_STOP_MJ_PER_M2: Range<usize> = 80..84;
+    /// Dose while paused, rounded up, mJ/m², u32 (saturating).
+    pub const PAUSED_MJ_PER_M2: Range<usize> = 84..88;
+    /// Stop code, u8 (see `StopCode`).
+    pub const STOP: usize = 88;
+    /// Fault reason of a fault stop, u8 (`FaultCode`; 0 none).
+    pub const STOP_FAULT: usize = 89;
+    /// First fault reason, u8 (`FaultCode`; 0 none).
+    pub const FIRST_FAULT: usize = 90;
+    /// Fault kinds, u16: bit i = `CURING_FAULT_BITS[i]`.
+    pub const FAULT_KINDS: Range<usize> = 91..93;
+    /// Events raised in the part, u16 (saturating).
+    pub const EVENTS: Range<usize> = 93..95;
+    /// Payload length in version 1.1.
+    pub const LEN: usize = 95;
+}
+/// Completed pause (kind 7, format 1.1), 29 bytes.
+pub mod pause {
+    use core::ops::Range;
+    /// Session id, u32.
+    pub const SESSION: Range<usize> = 0..4;
+    /// Tick the pause began, u32.
+    pub const STARTED_TICK: Range<usize> = 4..8;
+    /// Dark time, ticks, u32.
+    pub const DARK_TICKS: Range<usize> = 8..12;
+    /// Dose at the pause, rounded down, µJ/m², u64.
+    pub const AT_PAUSE_UJ_PER_M2: Range<usize> = 12..20;
+    /// Dose received while paused, rounded up, µJ/m², u64.
+    pub const LEAK_UJ_PER_M2: Range<usize> = 20..28;
+    /// Cause, u8 (see `PauseCode`).
+    pub const CAUSE: usize = 28;
+    /// Payload length in version 1.1.
+    pub const LEN: usize = 29;
+}
+/// Exposure monitor state (kind 8, format 1.1), 75 bytes.
+pub mod exposure_state {
+    use core::ops::Range;
+    /// Session id (0 outside a session), u32.
+    pub const SESSION: Range<usize> = 0..4;
+    /// Tick of the snapshot, u32.
+    pub const TICK: Range<usize> = 4..8;
+    /// Window segments, newest first, 8 × u32 in units of 10^`SCALE` µJ/m², rounded up.
+    pub const WINDOW: Range<usize> = 8..40;
+    /// Decimal scale of the window segments, u8, 0 ..= 10.
+    pub const SCALE: usize = 40;
+    /// Active warning levels, u8 (bit i = level i).
+    pub const ACTIVE: usize = 41;
+    /// Alarm latched, u8 (0 no, 1 yes).
+    pub const LATCHED: usize = 42;
+    /// Buckets per segment, u32.
+    pub const SEGMENT_BUCKETS: Range<usize> = 43..47;
+    /// Bucket length, ticks, u64.
+    pub const BUCKET_TICKS: Range<usize> = 47..55;
+    /// Shift exposure, gap charges included, rounded up, µJ/m², u64.
+    pub const SHIFT_UJ_PER_M2: Range<usize> = 55..63;
+    /// Of which charged for gaps, rounded up, µJ/m², u64.
+    pub const SHIFT_GAP_UJ_PER_M2: Range<usize> = 63..71;
+    /// Gaps in the shift, u32.
+    pub const GAPS: Range<usize> = 71..75;
+    /// Payload length in version 1.1.
+    pub const LEN: usize = 75;
+}
+/// Unmonitored interval (kind 9, format 1.1), 25 bytes.
+pub mod unmonitored {
+    use core::ops::Range;
+    /// Session id (0 outside a session), u32.
+    pub const SESSION: Range<usize> = 0..4;
+    /// Tick at boot, u32.
+    pub const TICK: Range<usize> = 4..8;
+    /// Tick rate of the off time, Hz, u32.
+    pub const TICK_RATE_HZ: Range<usize> = 8..12;
+    /// Off time, ticks, u64 (0 when unknown).
+    pub const OFF_TICKS: Range<usize> = 12..20;
+    /// Off time known, u8 (0 unknown, 1 known).
+    pub const OFF_KNOWN: usize = 20;
+    /// Sequence number of the state record restored, u32 (0: none).
+    pub const RESTORED_FROM: Range<usize> = 21..25;
+    /// Payload length in version 1.1.
+    pub const LEN: usize = 25;
+}
+/// Curing controller state (kind 10, format 1.1), 82 bytes.
+pub mod curing_state {
+    use core::ops::Range;
+    /// Session id (0 outside a session), u32.
+    pub const SESSION: Range<usize> = 0..4;
+    /// Tick of the snapshot, u32.
+    pub const TICK: Range<usize> = 4..8;
+    /// Parts finished, u32.
+    pub const PARTS_FINISHED: Range<usize> = 8..12;
+    /// Parts measured for the lamp trend, u32.
+    pub const LAMP_PARTS: Range<usize> = 12..16;
+    /// Valid lamp ratios, u8, 0 ..= 16.
+    pub const LAMP_LEN: usize = 16;
+    /// Latched alarm's fault reason, u8 (`FaultCode`; 0 none).
+    pub const ALARM: usize = 17;
+    /// Lamp ratios, oldest first, 16 × i32, ppm, rounded down.
+    pub const LAMP_RATIOS_PPM: Range<usize> = 18..82;
+    /// Payload length in version 1.1.
+    pub const LEN: usize = 82;
+}

@@ -18,7 +18,10 @@ use super::config::validate;
 use super::part::{LampHistory, PartState};
 use super::ControllerError;
 
+mod state;
 mod step;
+
+pub use state::CuringState;
 
 /// A dose-controlled curing station. See the [module documentation](super).
 #[derive(Debug)]
@@ -40,6 +43,8 @@ pub struct CuringController<EN, AL, IL> {
     phase: CuringPhase,
     part: Option<PartState>,
     lamp: LampHistory,
+    /// Parts finished since the controller was built (or restored).
+    parts_finished: u32,
     alarm_latched: bool,
     pending: Events,
     enable: EN,
@@ -102,6 +107,7 @@ impl<EN: OutputPin, AL: OutputPin, IL: InputPin> CuringController<EN, AL, IL> {
             phase: CuringPhase::Idle,
             part: None,
             lamp: LampHistory::new(),
+            parts_finished: 0,
             alarm_latched: false,
             pending: Events::NONE,
             enable,
@@ -146,6 +152,45 @@ impl<EN: OutputPin, AL: OutputPin, IL: InputPin> CuringController<EN, AL, IL> {
         now: Ticks,
     ) -> Result<Events, ControllerError<EN, AL, IL>> {
         self.start_part(part, now, false)
+    }
+
+    /// Start a part from dark, as [`start`](Self::start), with its part, lot and recipe
+    /// labels for traceability (kept in its [`PartRecord`]).
+    ///
+    /// # Errors
+    /// As [`start`](Self::start).
+    pub fn start_identified(
+        &mut self,
+        part: PartId,
+        identity: PartIdentity,
+        now: Ticks,
+    ) -> Result<Events, ControllerError<EN, AL, IL>> {
+        let r = self.start_part(part, now, true);
+        self.set_identity(identity);
+        r
+    }
+
+    /// Start a part whose light is already on, as [`start_lit`](Self::start_lit), with its
+    /// part, lot and recipe labels.
+    ///
+    /// # Errors
+    /// As [`start`](Self::start).
+    pub fn start_lit_identified(
+        &mut self,
+        part: PartId,
+        identity: PartIdentity,
+        now: Ticks,
+    ) -> Result<Events, ControllerError<EN, AL, IL>> {
+        let r = self.start_part(part, now, false);
+        self.set_identity(identity);
+        r
+    }
+
+    /// Label the active part (a part refused at the start is not active: nothing changes).
+    fn set_identity(&mut self, identity: PartIdentity) {
+        if let Some(p) = self.part.as_mut() {
+            p.identity = identity;
+        }
     }
 
     fn start_part(
@@ -415,6 +460,7 @@ impl<EN: OutputPin, AL: OutputPin, IL: InputPin> CuringController<EN, AL, IL> {
             }
         }
         self.part = None;
+        self.parts_finished = self.parts_finished.saturating_add(1);
         // A latched alarm keeps the station in its fault until acknowledged.
         if !matches!(self.phase, CuringPhase::Faulted(_)) {
             self.phase = CuringPhase::Idle;

@@ -389,6 +389,7 @@ impl<EN: OutputPin, AL: OutputPin, IL: InputPin> CuringController<EN, AL, IL> {
         };
         PartRecord {
             part: p.id,
+            identity: p.identity,
             start: p.start,
             stop,
             end: p.end,
@@ -404,6 +405,7 @@ impl<EN: OutputPin, AL: OutputPin, IL: InputPin> CuringController<EN, AL, IL> {
             stop_reason,
             fault: p.first_fault,
             faults: p.fault_kinds.count_ones() as u8,
+            fault_kinds: p.fault_kinds,
             events: p.event_count,
             seen: p.seen,
             lamp_ratio,
