@@ -59,7 +59,7 @@ fn weighted_exposure_is_a_constant_times_the_radiant_exposure() {
     let area = Area::from_mm2(1.0);
     let meter = Meter::with_band_factors(
         front_end(),
-        Calibration::from_spectral(&set.spectral(), area),
+        Calibration::from_spectral(set.spectral(), area),
         set.spectral().band_factors().unwrap(),
         TickRate::from_hz(1000).unwrap(),
         None,

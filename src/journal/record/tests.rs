@@ -601,7 +601,7 @@ fn exposure_segments_round_up_in_a_coarser_unit_and_never_down() {
     let bytes = encode(&r);
     assert_eq!(bytes[HEADER_LEN + payload::exposure_state::SCALE], 4);
     let Body::ExposureState(back) = Record::parse(&bytes).unwrap().body else {
-        panic!("kind")
+        unreachable!("kind")
     };
     for (w, b) in s.window_uj_per_m2.iter().zip(back.state.window_uj_per_m2) {
         assert!(b >= *w, "{b} < {w}");
@@ -634,7 +634,7 @@ fn exposure_segments_round_up_in_a_coarser_unit_and_never_down() {
         }),
     };
     let Body::ExposureState(back) = Record::parse(&encode(&r)).unwrap().body else {
-        panic!("kind")
+        unreachable!("kind")
     };
     assert_eq!(back.state.window_uj_per_m2, [u64::MAX; 8]);
 }
