@@ -295,12 +295,18 @@ const fn pow10(e: u8) -> u64 {
     v
 }
 
+/// ⌈a / b⌉ without a panic path (`b` = 0 reads as 1).
+fn div_up(a: u64, b: u64) -> u64 {
+    let b = core::num::NonZeroU64::new(b).unwrap_or(core::num::NonZeroU64::MIN);
+    (a / b).saturating_add(u64::from(a % b != 0))
+}
+
 fn emit_exposure(p: &mut [u8], x: &ExposureSnapshot) {
     use payload::exposure_state as f;
     let s = &x.state;
     let max = s.window_uj_per_m2.iter().copied().max().unwrap_or(0);
     let mut scale = 0u8;
-    while scale < MAX_SCALE && max.div_ceil(pow10(scale)) > u64::from(u32::MAX) {
+    while scale < MAX_SCALE && div_up(max, pow10(scale)) > u64::from(u32::MAX) {
         scale += 1;
     }
     let unit = pow10(scale);
@@ -308,7 +314,7 @@ fn emit_exposure(p: &mut [u8], x: &ExposureSnapshot) {
     put(p, f::TICK, &x.at.0.to_le_bytes());
     for (i, &uj) in s.window_uj_per_m2.iter().enumerate() {
         // Rounded up: read back, a segment is never below the one written.
-        let v = u32::try_from(uj.div_ceil(unit)).unwrap_or(u32::MAX);
+        let v = u32::try_from(div_up(uj, unit)).unwrap_or(u32::MAX);
         let at = f::WINDOW.start + 4 * i;
         put(p, at..at + 4, &v.to_le_bytes());
     }
