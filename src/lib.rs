@@ -21,6 +21,7 @@
 //!  spectral/     band, table, action, spectrum, weighting, peak tolerance → factors
 //!                (configuration time)
 //!  irradiance/   photocurrent → W/m²: the Meter; calibration records (CRC, expiry)
+//!  profile/      the Meter and its thresholds computed on a host, built without f64
 //!  dose/         the one exact integer integral; thresholds in integer units
 //!  time          the one timing policy and the 64-bit tick base
 //!  control/      the shared safe-state pin layer and the controllers:
@@ -48,7 +49,10 @@
 //! [`irradiance`] turns photocurrent into
 //! W/m²: its [`Meter`](irradiance::Meter) combines all configuration into per-range
 //! constants, and [`irradiance::calibration`] is the sealed calibration record with its
-//! expiry check.
+//! expiry check. [`profile`] carries those constants, and the thresholds converted for every
+//! range, from a host to the device as integers ([`MeterProfile`](profile::MeterProfile),
+//! CRC-protected bytes or a `const`): [`Meter::from_profile`](irradiance::Meter::from_profile)
+//! builds the meter without any floating-point operation.
 //!
 //! **Integrate.** [`dose`] holds the [`Integrator`](dose::Integrator): integer sums, one
 //! segment per range, thresholds pre-converted to integer units, gaps charged conservatively

@@ -162,9 +162,6 @@ pub struct Meter {
     sample_area: Option<Area>,
     /// W/m² per net code, per range.
     w_per_m2_per_code: [f64; MAX_RANGES],
-    /// J/m² per integer unit of the dose engine, per range (see
-    /// [`j_per_m2_per_unit`](Self::j_per_m2_per_unit)), computed once.
-    j_per_m2_per_unit: [f64; MAX_RANGES],
 }
 
 impl Meter {
@@ -203,15 +200,10 @@ impl Meter {
             }
         }
         let mut w_per_m2_per_code = [0.0; MAX_RANGES];
-        let mut j_per_m2_per_unit = [0.0; MAX_RANGES];
         // A bounded index range: `0u8..` could overflow (and panic) as far as the compiler knows.
-        for ((i, slot), unit) in (0u8..MAX_RANGES as u8)
-            .zip(w_per_m2_per_code.iter_mut())
-            .zip(j_per_m2_per_unit.iter_mut())
-        {
+        for (i, slot) in (0u8..MAX_RANGES as u8).zip(w_per_m2_per_code.iter_mut()) {
             if let Some(a) = front_end.amps_per_code(RangeIndex(i)) {
                 *slot = a * k.w_per_m2_per_a();
-                *unit = 0.5 * *slot / f64::from(tick_rate.hz());
             }
         }
         Ok(Self {
@@ -221,7 +213,6 @@ impl Meter {
             tick_rate,
             sample_area,
             w_per_m2_per_code,
-            j_per_m2_per_unit,
         })
     }
 
@@ -236,7 +227,6 @@ impl Meter {
         tick_rate: TickRate,
         sample_area: Option<Area>,
         w_per_m2_per_code: [f64; MAX_RANGES],
-        j_per_m2_per_unit: [f64; MAX_RANGES],
     ) -> Self {
         Self {
             front_end,
@@ -245,7 +235,6 @@ impl Meter {
             tick_rate,
             sample_area,
             w_per_m2_per_code,
-            j_per_m2_per_unit,
         }
     }
 
@@ -313,10 +302,12 @@ impl Meter {
     /// read-out), so the factor is `½ · (W/m² per code) / tick_rate`. Zero for an unknown range.
     #[must_use]
     pub fn j_per_m2_per_unit(&self, r: RangeIndex) -> f64 {
-        self.j_per_m2_per_unit
+        let k = self
+            .w_per_m2_per_code
             .get(usize::from(r.0))
             .copied()
-            .unwrap_or(0.0)
+            .unwrap_or(0.0);
+        0.5 * k / f64::from(self.tick_rate.hz())
     }
 
     /// Photon exposure for a radiant exposure in this band.

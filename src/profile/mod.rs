@@ -624,12 +624,12 @@ impl Meter {
         p.check()?;
         let mut ranges: heapless::Vec<AmplifierRange, MAX_RANGES> = heapless::Vec::new();
         let mut w_per_m2_per_code = [0.0; MAX_RANGES];
-        let mut j_per_m2_per_unit = [0.0; MAX_RANGES];
-        for ((i, r), (w, j)) in (0u8..p.range_count).zip(p.ranges.iter()).zip(
-            w_per_m2_per_code
-                .iter_mut()
-                .zip(j_per_m2_per_unit.iter_mut()),
-        ) {
+        for (r, w) in p
+            .ranges
+            .iter()
+            .take(usize::from(p.range_count))
+            .zip(w_per_m2_per_code.iter_mut())
+        {
             ranges
                 .push(AmplifierRange {
                     gain: Transimpedance::from_v_per_a(f64::from_bits(r.transimpedance_bits)),
@@ -637,10 +637,6 @@ impl Meter {
                 })
                 .map_err(|_| ProfileError::Field(ProfileField::RangeCount))?;
             *w = f64::from_bits(r.w_per_m2_per_code_bits);
-            *j = f64::from_bits(
-                join_scale(r.unit_mantissa, r.unit_exponent)
-                    .ok_or(ProfileError::Field(ProfileField::UnitScale(i)))?,
-            );
         }
         let front_end = FrontEnd::from_parts(
             p.codes,
@@ -659,7 +655,6 @@ impl Meter {
             tick_rate,
             sample_area,
             w_per_m2_per_code,
-            j_per_m2_per_unit,
         ))
     }
 }
