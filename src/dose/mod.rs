@@ -23,10 +23,13 @@
 //!
 //! # Thresholds in integer units
 //!
-//! A dose threshold (a stop target, an overexposure limit, a warning) is converted **once**
-//! into the integer scale of the current segment, rounded in the safe direction
-//! ([`Rounding`]), and re-converted only when a segment closes. The per-sample path is then
-//! one multiply, one add and one compare per threshold — no floating point, no division.
+//! A dose threshold (a stop target, an overexposure limit, a warning) is converted **once**,
+//! when it is armed, into a fixed-point number of integer units of the reference range (the
+//! least sensitive one; 2⁻⁵² of a unit, rounded in the safe direction, [`Rounding`]). When a segment closes, the closed per-range
+//! totals are brought into that scale and the distance left into the open segment's units
+//! with 64-bit integer ratios of the ranges' scales (computed once in [`Integrator::new`]),
+//! each rounded in the threshold's safe direction: a range change needs no floating point.
+//! The per-sample path is one add and two compares — no floating point, no division.
 //!
 //! # Time
 //!
@@ -51,6 +54,13 @@ use crate::frontend::MAX_RANGES;
 use crate::irradiance::Meter;
 use crate::quantity::RadiantExposure;
 use crate::time::{clamp_max_gap, classify, Step as TimeStep};
+
+mod fixed;
+
+use fixed::{
+    ceil_units, clamp_fixed, f64_to_fixed, floor_units, mul_i32_u32, product_bounds, total_bounds,
+    Ratio, RatioTable, FIXED_MAX,
+};
 
 /// The largest number of dose thresholds an integrator watches at once.
 pub const MAX_THRESHOLDS: usize = 6;
@@ -155,14 +165,50 @@ pub struct Step {
     pub crossed: Crossed,
 }
 
-#[derive(Debug, Clone, Copy, PartialEq)]
+/// The watched thresholds, one column per field (no padding: 152 bytes for six).
+#[derive(Debug, Clone, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-struct Threshold {
-    level_j_per_m2: f64,
-    rounding: Rounding,
-    /// Level in units of the current segment.
-    limit: i64,
+struct Thresholds {
+    /// Each level in integer units of the reference range, fixed point (52
+    /// fractional bits), with the tie slack and the rounding of [`Rounding`] applied;
+    /// [`NEVER`] for a level that can never be reached.
+    level: [i128; MAX_THRESHOLDS],
+    /// Each level in units of the open segment.
+    limit: [i64; MAX_THRESHOLDS],
+    /// Bit `i` set: threshold `i` is rounded [`Rounding::NotAfter`].
+    not_after: u8,
+    /// How many are watched (≤ [`MAX_THRESHOLDS`]).
+    len: u8,
 }
+
+impl Thresholds {
+    const fn new() -> Self {
+        Self {
+            level: [0; MAX_THRESHOLDS],
+            limit: [i64::MAX; MAX_THRESHOLDS],
+            not_after: 0,
+            len: 0,
+        }
+    }
+
+    /// The limits of the watched thresholds.
+    fn limits(&self) -> &[i64] {
+        self.limit.get(..usize::from(self.len)).unwrap_or(&[])
+    }
+
+    fn rounding(&self, i: u8) -> Rounding {
+        // i < MAX_THRESHOLDS = 6 < 8: the shift never wraps.
+        if self.not_after & 1u8.wrapping_shl(u32::from(i)) != 0 {
+            Rounding::NotAfter
+        } else {
+            Rounding::NotBefore
+        }
+    }
+}
+
+/// The level of a threshold that never fires (a non-finite level, or a meter without a
+/// scale).
+const NEVER: i128 = i128::MAX;
 
 /// The exact dose integrator. See the [module documentation](self).
 #[derive(Debug, Clone, PartialEq)]
@@ -185,13 +231,21 @@ pub struct Integrator {
     band_low: i64,
     band_high: i64,
     preload_j_per_m2: f64,
+    /// The preload in reference units, fixed point, rounded down.
+    preload_units: i128,
     scale: [f64; MAX_RANGES],
+    /// The range whose integer units the fixed-point levels count (the largest scale).
+    ref_range: u8,
+    /// `k_r / k_ref` per range: brings range `r`'s integer totals into reference units.
+    to_ref: RatioTable,
+    /// `k_ref / k_r` per range: brings a distance in reference units into range `r`'s units.
+    from_ref: RatioTable,
     closed: [i128; MAX_RANGES],
     /// Conservative charges for gaps, per range, in the same units as `closed`.
     /// (i64, saturating: 2⁶³ units is far beyond any real dose, and an i64 converts with the
     /// routine the open segment already links.)
     gap: [i64; MAX_RANGES],
-    thresholds: heapless::Vec<Threshold, MAX_THRESHOLDS>,
+    thresholds: Thresholds,
 }
 
 impl Integrator {
@@ -205,8 +259,33 @@ impl Integrator {
         for (i, s) in (0u8..MAX_RANGES as u8).zip(scale.iter_mut()) {
             *s = meter.j_per_m2_per_unit(RangeIndex(i));
         }
+        Self::from_scales(scale, max_gap)
+    }
+
+    /// [`new`](Self::new) from the J/m² per integer unit of each range.
+    fn from_scales(scale: [f64; MAX_RANGES], max_gap: u32) -> Self {
+        // The reference range: the largest scale (the least sensitive range), so a dose in
+        // its units is the smallest number and the fixed-point levels never saturate first.
+        let mut ref_range = 0u8;
+        let mut k_ref = 0.0;
+        for (i, k) in (0u8..MAX_RANGES as u8).zip(scale.iter()) {
+            if *k > k_ref {
+                ref_range = i;
+                k_ref = *k;
+            }
+        }
+        let mut to_ref = RatioTable::default();
+        let mut from_ref = RatioTable::default();
+        for (r, k) in (0..MAX_RANGES).zip(scale.iter()) {
+            to_ref.set(r, Ratio::of(*k, k_ref));
+            from_ref.set(r, Ratio::of(k_ref, *k));
+        }
         Self {
             scale,
+            ref_range,
+            to_ref,
+            from_ref,
+            preload_units: 0,
             closed: [0; MAX_RANGES],
             gap: [0; MAX_RANGES],
             has_gap: false,
@@ -215,7 +294,7 @@ impl Integrator {
             last: None,
             max_gap: clamp_max_gap(max_gap),
             preload_j_per_m2: 0.0,
-            thresholds: heapless::Vec::new(),
+            thresholds: Thresholds::new(),
             // No thresholds: nothing is crossed whatever the segment.
             crossed_cache: Crossed(0),
             band_low: i64::MIN,
@@ -228,6 +307,10 @@ impl Integrator {
     pub fn set_preload(&mut self, delivered: RadiantExposure) {
         let v = delivered.j_per_m2();
         self.preload_j_per_m2 = if v.is_finite() && v > 0.0 { v } else { 0.0 };
+        self.preload_units = match level_units_f64(self.preload_j_per_m2, self.k_ref(), false) {
+            NEVER => 0,
+            u => u,
+        };
         self.recompute_limits();
     }
 
@@ -241,16 +324,59 @@ impl Integrator {
         level: RadiantExposure,
         rounding: Rounding,
     ) -> Result<ThresholdId, RadiantExposure> {
-        let id = u8::try_from(self.thresholds.len()).map_err(|_| level)?;
-        let t = Threshold {
-            level_j_per_m2: level.j_per_m2(),
-            rounding,
-            limit: i64::MAX,
+        let units = self.level_units(level, rounding);
+        self.add_threshold_units(units, rounding).map_err(|_| level)
+    }
+
+    /// [`add_threshold`](Self::add_threshold) from a level already converted (on the host,
+    /// or by [`level_units`](Self::level_units)), so arming needs no floating point:
+    /// `level_units` is the level in integer units of
+    /// [`reference_range`](Self::reference_range) as a fixed-point number with 52 fractional
+    /// bits (2⁻⁵² of a unit), with the tie slack and the rounding of `rounding` applied —
+    /// exactly what `level_units` returns for the same meter. Valid: any value; magnitudes
+    /// above 2¹²² count as 2¹²² (2⁷⁰ reference units); `i128::MAX` never fires.
+    ///
+    /// # Errors
+    /// The level, unchanged, when the threshold list is full.
+    pub fn add_threshold_units(
+        &mut self,
+        level_units: i128,
+        rounding: Rounding,
+    ) -> Result<ThresholdId, i128> {
+        let id = self.thresholds.len;
+        let i = usize::from(id);
+        let (Some(level), Some(limit)) = (
+            self.thresholds.level.get_mut(i),
+            self.thresholds.limit.get_mut(i),
+        ) else {
+            return Err(level_units);
         };
-        self.thresholds.push(t).map_err(|_| level)?;
+        *level = clamp_level(level_units);
+        *limit = i64::MAX;
+        // id < MAX_THRESHOLDS = 6 < 8: the shift never wraps, the count never overflows.
+        let bit = 1u8.wrapping_shl(u32::from(id));
+        match rounding {
+            Rounding::NotAfter => self.thresholds.not_after |= bit,
+            Rounding::NotBefore => self.thresholds.not_after &= !bit,
+        }
+        self.thresholds.len = id.wrapping_add(1);
         // Converts every limit (the new one included) and refreshes the crossed set.
         self.recompute_limits();
         Ok(ThresholdId(id))
+    }
+
+    /// A dose level as [`add_threshold_units`](Self::add_threshold_units) takes it: the level
+    /// moved by the tie slack (16 ulps of itself) towards firing, divided by the reference
+    /// range's scale (J/m² per integer unit), times 2⁵², rounded up for
+    /// [`Rounding::NotBefore`] and down for [`Rounding::NotAfter`]; `i128::MAX` for a
+    /// non-finite level. The one floating-point step of a threshold, done when it is armed.
+    #[must_use]
+    pub fn level_units(&self, level: RadiantExposure, rounding: Rounding) -> i128 {
+        let v = level.j_per_m2();
+        match rounding {
+            Rounding::NotBefore => level_units_f64(v * (1.0 - TIE_SLACK), self.k_ref(), true),
+            Rounding::NotAfter => level_units_f64(v * (1.0 + TIE_SLACK), self.k_ref(), false),
+        }
     }
 
     /// Move threshold `id` to a new `level` (its rounding is kept), for a watcher that re-arms
@@ -259,8 +385,22 @@ impl Integrator {
     /// [`add_threshold`](Self::add_threshold) and the crossed set is refreshed. Returns `false`
     /// and changes nothing for an unknown handle.
     pub fn set_threshold(&mut self, id: ThresholdId, level: RadiantExposure) -> bool {
-        match self.thresholds.get_mut(usize::from(id.0)) {
-            Some(t) => t.level_j_per_m2 = level.j_per_m2(),
+        if id.0 >= self.thresholds.len {
+            return false;
+        }
+        let units = self.level_units(level, self.thresholds.rounding(id.0));
+        self.set_threshold_units(id, units)
+    }
+
+    /// [`set_threshold`](Self::set_threshold) from a level already converted, as
+    /// [`add_threshold_units`](Self::add_threshold_units) takes it (for the threshold's own
+    /// rounding). Returns `false` and changes nothing for an unknown handle.
+    pub fn set_threshold_units(&mut self, id: ThresholdId, level_units: i128) -> bool {
+        if id.0 >= self.thresholds.len {
+            return false;
+        }
+        match self.thresholds.level.get_mut(usize::from(id.0)) {
+            Some(l) => *l = clamp_level(level_units),
             None => return false,
         }
         self.recompute_limits();
@@ -269,7 +409,7 @@ impl Integrator {
 
     /// Stop watching every threshold.
     pub fn clear_thresholds(&mut self) {
-        self.thresholds.clear();
+        self.thresholds.len = 0;
         self.refresh_crossed();
     }
 
@@ -373,7 +513,6 @@ impl Integrator {
             }
         };
         self.last = Some(new);
-        let dt64 = i64::from(dt);
         if range == last.range && range == self.segment_range {
             let term = trapezoid_term(net, last.net, dt);
             match self.segment.checked_add(term) {
@@ -387,8 +526,8 @@ impl Integrator {
         } else {
             // Each end of the trapezoid goes to its own range's total.
             self.close_segment(range);
-            self.add_closed(last.range, i64::from(last.net) * dt64);
-            self.segment = i64::from(net) * dt64;
+            self.add_closed(last.range, mul_i32_u32(last.net, dt));
+            self.segment = mul_i32_u32(net, dt);
             self.recompute_limits();
         }
         Ok(Step {
@@ -413,13 +552,13 @@ impl Integrator {
         let mut low = i64::MIN;
         let mut high = i64::MAX;
         // At most MAX_THRESHOLDS (6) entries, so the bounded index range covers them all.
-        for (i, t) in (0u8..MAX_THRESHOLDS as u8).zip(self.thresholds.iter()) {
-            if self.segment >= t.limit {
+        for (i, limit) in (0u8..MAX_THRESHOLDS as u8).zip(self.thresholds.limits()) {
+            if self.segment >= *limit {
                 // i < MAX_THRESHOLDS = 6 < 8: the shift never wraps.
                 bits |= 1u8.wrapping_shl(u32::from(i));
-                low = low.max(t.limit);
+                low = low.max(*limit);
             } else {
-                high = high.min(t.limit);
+                high = high.min(*limit);
             }
         }
         self.crossed_cache = Crossed(bits);
@@ -446,8 +585,8 @@ impl Integrator {
     pub fn crossed(&self) -> Crossed {
         let mut bits = 0u8;
         // At most MAX_THRESHOLDS (6) entries, so the bounded index range covers them all.
-        for (i, t) in (0u8..MAX_THRESHOLDS as u8).zip(self.thresholds.iter()) {
-            if self.segment >= t.limit {
+        for (i, limit) in (0u8..MAX_THRESHOLDS as u8).zip(self.thresholds.limits()) {
+            if self.segment >= *limit {
                 // i < MAX_THRESHOLDS = 6 < 8: the shift never wraps.
                 bits |= 1u8.wrapping_shl(u32::from(i));
             }
@@ -465,8 +604,9 @@ impl Integrator {
     #[must_use]
     pub(crate) fn units_to_threshold(&self, id: ThresholdId) -> Option<i64> {
         self.thresholds
+            .limits()
             .get(usize::from(id.0))
-            .map(|t| t.limit.saturating_sub(self.segment))
+            .map(|limit| limit.saturating_sub(self.segment))
     }
 
     /// The amplifier range whose integer units the open segment (and every threshold limit)
@@ -590,44 +730,98 @@ impl Integrator {
         self.segment_range = next;
     }
 
-    /// The limit of `t` in units of the open segment, given the closed dose and the gap
-    /// charge (J/m², computed once by the caller for every threshold).
-    fn limit_for(&self, t: &Threshold, closed_j: f64, gap_j: f64) -> i64 {
-        let k = self.scale_of(self.segment_range);
-        if k <= 0.0 || !t.level_j_per_m2.is_finite() {
-            return i64::MAX;
-        }
-        let base = match t.rounding {
-            Rounding::NotBefore => closed_j,
-            Rounding::NotAfter => closed_j + gap_j,
-        };
-        // The f64 rounding of the conversion is a few ulps of the level (the closed dose is
-        // below it while the threshold matters). Moving the level by TIE_SLACK of itself
-        // towards firing makes a dose exactly at the level fire at that sample (ties resolved
-        // towards firing; the error is < 1e-15 of the level).
-        // `as` from f64 saturates at the i64 bounds (and maps NaN to 0, excluded above).
-        match t.rounding {
-            Rounding::NotBefore => {
-                libm::ceil((t.level_j_per_m2 * (1.0 - TIE_SLACK) - base) / k) as i64
-            }
-            Rounding::NotAfter => {
-                libm::floor((t.level_j_per_m2 * (1.0 + TIE_SLACK) - base) / k) as i64
-            }
-        }
+    /// J/m² per integer unit of the reference range.
+    fn k_ref(&self) -> f64 {
+        self.scale_of(RangeIndex(self.ref_range))
     }
 
-    fn recompute_limits(&mut self) {
-        let closed_j = self.closed_j_per_m2();
-        let gap_j = self.gap_j_per_m2();
-        for i in 0..self.thresholds.len() {
-            if let Some(t) = self.thresholds.get(i).copied() {
-                let limit = self.limit_for(&t, closed_j, gap_j);
-                if let Some(slot) = self.thresholds.get_mut(i) {
-                    slot.limit = limit;
-                }
+    /// The range whose integer units [`add_threshold_units`](Self::add_threshold_units) and
+    /// [`level_units`](Self::level_units) count: the meter's range with the most J/m² per
+    /// integer unit (the least sensitive one).
+    #[must_use]
+    pub const fn reference_range(&self) -> RangeIndex {
+        RangeIndex(self.ref_range)
+    }
+
+    /// Bounds `(low, high)` on Σ_r table[r] · k_r / k_ref (reference units, fixed point):
+    /// the reference range exactly, every other non-zero total through its ratio.
+    fn table_units(&self, table: impl Iterator<Item = i128>) -> (i128, i128) {
+        let mut lo = 0i128;
+        let mut hi = 0i128;
+        for (r, c) in (0..MAX_RANGES).zip(table) {
+            if c == 0 {
+                continue;
             }
+            let (l, h) = total_bounds(c, self.to_ref.get(r));
+            // At most MAX_RANGES (4) terms, each within ±(2¹²² + 2⁶²): no overflow.
+            lo = lo.wrapping_add(l);
+            hi = hi.wrapping_add(h);
+        }
+        (lo, hi)
+    }
+
+    /// Convert every threshold into the open segment's units, in integers: the level less
+    /// the closed dose (and, for limits, the gap charge), each bounded in the threshold's safe
+    /// direction, times `k_ref / k_segment`, rounded up for targets and down for limits.
+    fn recompute_limits(&mut self) {
+        let from = self.from_ref.get(usize::from(self.segment_range.0));
+        // Levels, the preload and every term are within ±(2¹²² + 2⁶²): the closed bounds
+        // within ±4.1·2¹²², with the preload and the gap within ±9.2·2¹²² (< 2¹²⁶), and a
+        // level less either within ±2¹²⁷. Plain wrapping adds never wrap.
+        let (closed_lo, closed_hi) = self.table_units(self.closed.iter().copied());
+        let closed_lo = closed_lo.wrapping_add(self.preload_units);
+        // The preload is rounded down; one last place bounds it from above.
+        let mut bound_hi = closed_hi.wrapping_add(self.preload_units).wrapping_add(1);
+        if self.has_gap {
+            let (_, gap_hi) = self.table_units(self.gap.iter().map(|g| i128::from(*g)));
+            bound_hi = bound_hi.wrapping_add(gap_hi);
+        }
+        let n = usize::from(self.thresholds.len);
+        let not_after = self.thresholds.not_after;
+        // A bounded index range (`enumerate` would carry an overflow check into the firmware).
+        for (i, (level, limit)) in (0u8..MAX_THRESHOLDS as u8).zip(
+            self.thresholds
+                .level
+                .iter()
+                .zip(self.thresholds.limit.iter_mut())
+                .take(n),
+        ) {
+            *limit = if *level == NEVER || from.is_zero() {
+                i64::MAX
+            } else if not_after & 1u8.wrapping_shl(u32::from(i)) == 0 {
+                // Rounding::NotBefore
+                let (_, hi) = product_bounds(level.wrapping_sub(closed_lo), from);
+                ceil_units(hi)
+            } else {
+                // Rounding::NotAfter
+                let (lo, _) = product_bounds(level.wrapping_sub(bound_hi), from);
+                floor_units(lo)
+            };
         }
         self.refresh_crossed();
+    }
+}
+
+/// `x / k` in integer units, times 2^FRAC_BITS, rounded up (`up`) or down: the arm-time
+/// conversion of a level or a preload (J/m²) into fixed-point reference units. [`NEVER`] for a non-finite
+/// `x` or a scale that is not > 0; saturates at ±2¹²².
+fn level_units_f64(x: f64, k: f64, up: bool) -> i128 {
+    if !x.is_finite() || !k.is_finite() || k <= 0.0 {
+        return NEVER;
+    }
+    let v = x / k;
+    if !v.is_finite() {
+        return if v > 0.0 { FIXED_MAX } else { -FIXED_MAX };
+    }
+    f64_to_fixed(v, up)
+}
+
+/// A level as stored: [`NEVER`] kept, anything else clamped to ±2¹²².
+fn clamp_level(units: i128) -> i128 {
+    if units == NEVER {
+        NEVER
+    } else {
+        clamp_fixed(units)
     }
 }
 

@@ -347,3 +347,154 @@ fn small_terms_near_the_segment_limit_fold_exactly() {
     }
     assert!(expected > i128::from(i64::MAX));
 }
+
+/// The limit the previous conversion computed in `f64` (J/m² sums, one division, `libm`
+/// rounding), kept here as the oracle of the integer conversion that replaced it.
+fn f64_limit(
+    scale: &[f64; MAX_RANGES],
+    closed: &[i128; MAX_RANGES],
+    gap: &[i64; MAX_RANGES],
+    preload: f64,
+    segment_range: usize,
+    level: f64,
+    rounding: Rounding,
+) -> (i64, f64) {
+    let closed_j = preload
+        + closed
+            .iter()
+            .zip(scale)
+            .map(|(c, k)| *c as f64 * k)
+            .sum::<f64>();
+    let gap_j = gap
+        .iter()
+        .zip(scale)
+        .map(|(g, k)| *g as f64 * k)
+        .sum::<f64>();
+    let k = scale[segment_range];
+    match rounding {
+        Rounding::NotBefore => {
+            let q = (level * (1.0 - TIE_SLACK) - closed_j) / k;
+            (libm::ceil(q) as i64, q)
+        }
+        Rounding::NotAfter => {
+            let q = (level * (1.0 + TIE_SLACK) - closed_j - gap_j) / k;
+            (libm::floor(q) as i64, q)
+        }
+    }
+}
+
+#[test]
+fn integer_limits_equal_the_f64_conversion_they_replace() {
+    // Random meters (2 to 4 ranges, scales 1e-12 ..= 1e-3 J/m² per unit, so neighbouring
+    // ranges differ by up to 10⁹), closed totals and gap charges in every range, a preload,
+    // levels from well below the closed dose to far above it, both roundings, every range
+    // as the open one. The integer limit must equal the f64 one, except where the f64
+    // quotient lies within its own rounding error of an integer (then they may differ by
+    // one, and both must lie within that error of the quotient).
+    let mut seed = 0x5eed_1234_abcd_9876u64;
+    let mut next = move || {
+        seed ^= seed >> 12;
+        seed ^= seed << 25;
+        seed ^= seed >> 27;
+        seed.wrapping_mul(0x2545_f491_4f6c_dd1d)
+    };
+    let unit = move |n: &mut dyn FnMut() -> u64| (n() >> 11) as f64 / (1u64 << 53) as f64;
+    let mut disagreements = 0;
+    let mut strict = 0;
+    let cases = 50_000;
+    for case in 0..cases {
+        let ranges = 2 + (next() % 3) as usize;
+        let mut scale = [0.0; MAX_RANGES];
+        for k in scale.iter_mut().take(ranges) {
+            *k = 1e-12 * 1e9f64.powf(unit(&mut next));
+        }
+        let mut integ = Integrator::from_scales(scale, 1000);
+        let mut closed = [0i128; MAX_RANGES];
+        let mut gap = [0i64; MAX_RANGES];
+        for r in 0..ranges {
+            // Totals of up to 2⁴⁸ units, a few negative (net codes below the dark offset).
+            let mag = (next() >> (16 + next() % 48)) as i128;
+            closed[r] = if next() % 8 == 0 { -mag } else { mag };
+            if next() % 2 == 0 {
+                gap[r] = (next() >> (20 + next() % 44)) as i64;
+            }
+        }
+        let preload = if next() % 2 == 0 {
+            0.0
+        } else {
+            unit(&mut next) * 1e3
+        };
+        integ.closed = closed;
+        integ.gap = gap;
+        integ.has_gap = gap.iter().any(|g| *g != 0);
+        let segment_range = (next() % ranges as u64) as usize;
+        integ.segment_range = RangeIndex(segment_range as u8);
+        integ.set_preload(RadiantExposure::from_j_per_m2(preload));
+        let dose = preload
+            + closed
+                .iter()
+                .zip(&scale)
+                .map(|(c, k)| *c as f64 * k)
+                .sum::<f64>();
+        let gap_j = gap
+            .iter()
+            .zip(&scale)
+            .map(|(g, k)| *g as f64 * k)
+            .sum::<f64>();
+        for rounding in [Rounding::NotBefore, Rounding::NotAfter] {
+            // Level: the dose (and gap) times 0.5 ..= 3, or plus a few units of the open range.
+            let level = if next() % 2 == 0 {
+                (dose.abs() + gap_j) * (0.5 + 2.5 * unit(&mut next))
+            } else {
+                dose + gap_j + scale[segment_range] * (next() % 1000) as f64 * unit(&mut next)
+            };
+            integ.clear_thresholds();
+            let id = integ
+                .add_threshold(RadiantExposure::from_j_per_m2(level), rounding)
+                .unwrap();
+            let got = integ.thresholds.limit[usize::from(id.0)];
+            let (want, q) = f64_limit(
+                &scale,
+                &closed,
+                &gap,
+                preload,
+                segment_range,
+                level,
+                rounding,
+            );
+            let k = scale[segment_range];
+            if 64.0 * f64::EPSILON * (level.abs() + dose.abs() + gap_j + preload) / k < 0.01 {
+                strict += 1;
+            }
+            if got == want {
+                continue;
+            }
+            // The f64 quotient's own error: a few ulps of each term it was computed from.
+            let err = 64.0 * f64::EPSILON * (level.abs() + dose.abs() + gap_j + preload) / k;
+            let to_integer = (q - libm::round(q)).abs();
+            if err < 0.01 && to_integer > err {
+                // The f64 conversion is exact to the integer here: the two must agree.
+                assert_eq!(got, want, "case {case}, {rounding:?}: quotient {q}");
+            } else {
+                // Both approximate the same quotient: within the f64 result's own error.
+                assert!(
+                    (got as f64 - q).abs() <= err + 1.0,
+                    "case {case}, {rounding:?}: integer {got}, f64 {want} (quotient {q}, error {err})"
+                );
+                if got != want {
+                    disagreements += 1;
+                }
+            }
+        }
+    }
+    // Most conversions are exact in f64 too, so they were compared for equality.
+    assert!(
+        strict > cases / 2,
+        "only {strict} of {} conversions compared strictly",
+        2 * cases
+    );
+    assert!(
+        disagreements > 0,
+        "the loose comparison was never exercised"
+    );
+}
