@@ -465,7 +465,7 @@ pub enum ResumeError {
         /// Digest of the current configuration.
         current: ConfigDigest,
     },
-    /// The session is not in [`Phase::Ready`](crate::control::session::Phase::Ready).
+    /// The session is not in [`Phase::Ready`].
     NotReady,
 }
 
@@ -495,7 +495,7 @@ pub struct Resumed {
     pub target_met: bool,
 }
 
-/// Resume a session (in [`Phase::Ready`](crate::control::session::Phase::Ready)) from a recovered
+/// Resume a session (in [`Phase::Ready`]) from a recovered
 /// one: checks the configuration digest, then preloads the recovered bound.
 ///
 /// # Errors
