@@ -4,7 +4,6 @@
 //! journal's own contract: the resumed session never delivers more than its target (plus one
 //! sample step), and stops at most one checkpoint horizon early.
 
-use core::convert::Infallible;
 use photon_ledger::irradiance::MeterConfig;
 
 use hosttests::flash::SimFlash;
@@ -26,19 +25,7 @@ use photon_ledger::spectral::band::Band;
 
 type Flash = SimFlash<1, 4, 1024>;
 
-#[derive(Debug, Default)]
-struct Pin;
-impl embedded_hal::digital::ErrorType for Pin {
-    type Error = Infallible;
-}
-impl embedded_hal::digital::OutputPin for Pin {
-    fn set_low(&mut self) -> Result<(), Infallible> {
-        Ok(())
-    }
-    fn set_high(&mut self) -> Result<(), Infallible> {
-        Ok(())
-    }
-}
+use photon_ledger::fixtures::RecordingPin as Pin;
 
 fn meter() -> Meter {
     let fe = FrontEnd::new(
@@ -142,7 +129,13 @@ fn a_session_cut_by_a_power_loss_resumes_without_re_dosing() {
     for cut_tick in [1_000u32, 4_370, 17_990, 30_000] {
         let mut journal = Journal::mount(Flash::new(4), journal_config()).unwrap();
         let mut cp = Checkpointer::new(cfg).unwrap();
-        let mut session = Session::new(meter.clone(), session_config(target), Pin, Pin).unwrap();
+        let mut session = Session::new(
+            meter.clone(),
+            session_config(target),
+            Pin::default(),
+            Pin::default(),
+        )
+        .unwrap();
         let start = cp.start_record(&meter, session.config(), CalibrationId(3), Ticks(0));
         let id = journal.begin_session(start).unwrap();
         journal
@@ -176,7 +169,13 @@ fn a_session_cut_by_a_power_loss_resumes_without_re_dosing() {
         assert!(bound <= delivered_before + horizon + 3e-6);
 
         // A fresh session with the same configuration resumes from the bound.
-        let mut session = Session::new(meter.clone(), session_config(target), Pin, Pin).unwrap();
+        let mut session = Session::new(
+            meter.clone(),
+            session_config(target),
+            Pin::default(),
+            Pin::default(),
+        )
+        .unwrap();
         let resumed = resume_session(&mut session, &recovered).unwrap();
         assert!(!resumed.target_met);
         let mut cp = Checkpointer::new(cfg).unwrap();
@@ -227,7 +226,13 @@ fn a_changed_configuration_is_not_resumed_silently() {
     let cfg = CheckpointConfig::one_second(meter.tick_rate(), 20, full_scale_irradiance(&meter));
     let mut journal = Journal::mount(Flash::new(4), journal_config()).unwrap();
     let mut cp = Checkpointer::new(cfg).unwrap();
-    let session = Session::new(meter.clone(), session_config(100.0), Pin, Pin).unwrap();
+    let session = Session::new(
+        meter.clone(),
+        session_config(100.0),
+        Pin::default(),
+        Pin::default(),
+    )
+    .unwrap();
     let start = cp.start_record(&meter, session.config(), CalibrationId(3), Ticks(0));
     let id = journal.begin_session(start).unwrap();
     journal
@@ -244,14 +249,21 @@ fn a_changed_configuration_is_not_resumed_silently() {
         .unwrap();
     let j = Journal::mount(journal.release(), journal_config()).unwrap();
     let recovered = *j.recovered().unwrap();
-    let mut other = Session::new(meter.clone(), session_config(120.0), Pin, Pin).unwrap();
+    let mut other = Session::new(
+        meter.clone(),
+        session_config(120.0),
+        Pin::default(),
+        Pin::default(),
+    )
+    .unwrap();
     assert!(matches!(
         resume_session(&mut other, &recovered),
         Err(ResumeError::ConfigChanged { .. })
     ));
     assert_eq!(other.phase(), Phase::Ready);
     // Same configuration: the recovered bound (150 J/m² + horizon) already meets the target.
-    let mut same = Session::new(meter, session_config(100.0), Pin, Pin).unwrap();
+    let mut same =
+        Session::new(meter, session_config(100.0), Pin::default(), Pin::default()).unwrap();
     let r = resume_session(&mut same, &recovered).unwrap();
     assert!(r.target_met);
     same.start().unwrap();
