@@ -229,7 +229,9 @@ pub struct Integrator {
     has_gap: bool,
     segment: i64,
     band_low: i64,
-    band_high: i64,
+    /// `band_high − band_low` (≥ 0): a segment is inside the band when
+    /// `segment − band_low`, as an unsigned number, is below it — one 64-bit compare.
+    band_width: u64,
     preload_j_per_m2: f64,
     /// The preload in reference units, fixed point, rounded down.
     preload_units: i128,
@@ -298,7 +300,7 @@ impl Integrator {
             // No thresholds: nothing is crossed whatever the segment.
             crossed_cache: Crossed(0),
             band_low: i64::MIN,
-            band_high: i64::MAX,
+            band_width: u64::MAX,
         }
     }
 
@@ -448,11 +450,15 @@ impl Integrator {
         // |term| < 2³¹ and the band lies inside [i64::MIN + 2³¹, i64::MAX − 2³¹], so a
         // wrapped (overflowed) sum always falls outside the band: no separate overflow check.
         let segment = self.segment.wrapping_add(i64::from(term));
-        if segment < self.band_low || segment >= self.band_high {
+        if !self.in_band(segment) {
             return self.leave_band(net, range, at, dt, term);
         }
         self.segment = segment;
-        self.last = Some(LastSample { at, net, range });
+        // Same range as `last`: only the time and the code change.
+        if let Some(l) = self.last.as_mut() {
+            l.at = at;
+            l.net = net;
+        }
         Some(Step {
             interval: dt,
             crossed: self.crossed_cache,
@@ -540,7 +546,7 @@ impl Integrator {
     /// between the nearest limits, the full scan otherwise. Same result as `crossed()`.
     #[inline]
     fn crossed_now(&mut self) -> Crossed {
-        if self.segment < self.band_low || self.segment >= self.band_high {
+        if !self.in_band(self.segment) {
             self.refresh_crossed();
         }
         self.crossed_cache
@@ -564,8 +570,22 @@ impl Integrator {
         self.crossed_cache = Crossed(bits);
         // Narrowed by 2³¹ at both ends: a band is still valid when narrower, and this keeps
         // any overflowed sum in `accept_common` outside it.
-        self.band_low = low.max(BAND_MIN);
-        self.band_high = high.min(BAND_MAX);
+        let band_low = low.max(BAND_MIN);
+        let band_high = high.min(BAND_MAX);
+        self.band_low = band_low;
+        // An empty band (band_high < band_low cannot occur: every crossed limit is at or
+        // below the segment, every other above it) would be width 0: always outside.
+        self.band_width = if band_high >= band_low {
+            band_high.abs_diff(band_low)
+        } else {
+            0
+        };
+    }
+
+    /// `band_low <= segment < band_low + band_width`, by one unsigned compare.
+    #[inline(always)]
+    const fn in_band(&self, segment: i64) -> bool {
+        (segment.wrapping_sub(self.band_low) as u64) < self.band_width
     }
 
     /// Forget the previous sample so the next one starts a new run (after a pause or a gap
