@@ -73,7 +73,10 @@ impl Ratio {
         }
         // A window of the top 64 bits of u: u ≈ w · 2^k (rounded down, relative error
         // below 2⁻⁶³ when k > 0, exact when k = 0).
-        let k = bit_length((u >> 64) as u64);
+        let k = match (u >> 64) as u64 {
+            0 => 0,
+            hi => bit_length(hi),
+        };
         let w = shr_128(u, k) as u64;
         let p = mul_64(w, self.m);
         // u · ratio · 2^extra ≈ p · 2^(k + e + extra − 64); k, extra ≤ 64 and |e| < 2¹⁵.

@@ -530,9 +530,19 @@ impl Integrator {
                 }
             }
         } else {
-            // Each end of the trapezoid goes to its own range's total.
-            self.close_segment(range);
-            self.add_closed(last.range, mul_i32_u32(last.net, dt));
+            // Each end of the trapezoid goes to its own range's total. The earlier end joins
+            // the closing segment when that is its range (the usual case): one 128-bit add.
+            let before = mul_i32_u32(last.net, dt);
+            match self.segment.checked_add(before) {
+                Some(s) if last.range == self.segment_range => {
+                    self.segment = s;
+                    self.close_segment(range);
+                }
+                _ => {
+                    self.close_segment(range);
+                    self.add_closed(last.range, before);
+                }
+            }
             self.segment = mul_i32_u32(net, dt);
             self.recompute_limits();
         }
