@@ -312,9 +312,10 @@ if [ "$have_qemu" = 1 ]; then
         read -r rc rc_sf < <(count_between "$log" pl_mark_8 pl_mark_9)
         read -r _ mul_sf < <(count_between "$log" pl_mark_10 pl_mark_11)
         read -r _ conv_sf < <(count_between "$log" pl_mark_12 pl_mark_13)
+        read -r wide wide_sf < <(count_between "$log" pl_mark_14 pl_mark_15)
         if [ "$base" = missing ] || [ "$acc" = missing ] || [ "$st" = missing ] ||
             [ "$cr" = missing ] || [ "$rc" = missing ] || [ "$mul_sf" = missing ] ||
-            [ "$conv_sf" = missing ]; then
+            [ "$conv_sf" = missing ] || [ "$wide" = missing ]; then
             fail "markers missing in the trace on $t"
             continue
         fi
@@ -331,10 +332,11 @@ if [ "$have_qemu" = 1 ]; then
         FIG[step_steady_$t]=$((st - base))
         FIG[step_target_$t]=$((cr - base))
         FIG[step_$t]=$(((st > cr ? st : cr) - base))
-        FIG[softfloat_$t]=$((acc_sf + st_sf + cr_sf + rc_sf))
+        FIG[softfloat_$t]=$((acc_sf + st_sf + cr_sf + rc_sf + wide_sf))
+        FIG[accept_wide_$t]=$((wide - base))
         FIG[range_change_$t]=$((rc - base))
         FIG[range_change_sf_$t]=$rc_sf
-        echo "  marker overhead $base; accept $acc; on_reading steady $st, at target $cr; range change $rc ($rc_sf soft-float)"
+        echo "  marker overhead $base; accept $acc; on_reading steady $st, at target $cr; range change $rc ($rc_sf soft-float); wide accept $wide ($wide_sf soft-float)"
     done
 fi
 
@@ -430,6 +432,7 @@ if [ "$have_qemu" = 1 ]; then
     check hot_path_accept_m4f "${FIG[accept_$V7]:-}"
     check hot_path_soft_float_m0 "${FIG[softfloat_$V6]:-}"
     check range_change_m0 "${FIG[range_change_$V6]:-}"
+    check hot_path_accept_wide_m0 "${FIG[accept_wide_$V6]:-}"
     check step_on_reading_m0 "${FIG[step_$V6]:-}"
     check step_on_reading_m4f "${FIG[step_$V7]:-}"
     check ram_session_state_m0 "${FIG[session_state_$V6]:-}"
@@ -452,6 +455,7 @@ printf '  %-40s %s\n' \
     "on_reading steady / at target, M0" "${FIG[step_steady_$V6]:-?} / ${FIG[step_target_$V6]:-?}" \
     "on_reading steady / at target, M4F" "${FIG[step_steady_$V7]:-?} / ${FIG[step_target_$V7]:-?}" \
     "soft-float in accept / steady / target / range change, M0" "${FIG[softfloat_$V6]:-?} (${FIG[range_change_sf_$V6]:-?} in the range change)" \
+    "accept, 24-bit converter at 10 Hz on a 1 MHz tick, M4F" "${FIG[accept_wide_$V7]:-?}" \
     "accept on a range change, M4F" "${FIG[range_change_$V7]:-?} (${FIG[range_change_sf_$V7]:-?} soft-float)" \
     "soft-float in hot path, M4F (f64 is software there too)" "${FIG[softfloat_$V7]:-?}" \
     "session state, M4F (bytes)" "${FIG[session_state_$V7]:-?}" \

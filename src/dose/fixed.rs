@@ -233,28 +233,47 @@ fn bit_length(x: u64) -> u32 {
     n.wrapping_add(w & 1)
 }
 
-/// `a · b` for 32-bit factors, from four 16 × 16-bit products: a Cortex-M0 multiplies only
-/// 32 × 32 → 32 bits, and the general 64-bit multiply routine costs about 40 instructions.
+/// `a · b` for 32-bit factors, from four 16 × 16-bit products: ARMv6-M (Cortex-M0/M0+)
+/// multiplies only 32 × 32 → 32 bits, and the general 64-bit multiply routine costs about 40
+/// instructions. ARMv6-M is told apart by its lack of 32-bit compare-and-swap (it has neither
+/// that nor a 64-bit multiply instruction).
+#[cfg(all(target_arch = "arm", not(target_has_atomic = "32")))]
 #[inline(always)]
 fn mul_32(a: u32, b: u32) -> u64 {
     let (a1, a0) = (a >> 16, a & 0xffff);
     let (b1, b0) = (b >> 16, b & 0xffff);
-    // Every partial product is below 2³², so the wrapping multiplies never wrap.
-    // The sums are the exact product (< 2⁶⁴), so the wrapping adds never wrap.
+    // Every partial product is below 2³², so the wrapping multiplies never wrap; the sums
+    // are the exact product (< 2⁶⁴), so the wrapping adds never wrap.
     let lo = u64::from(a0.wrapping_mul(b0));
     let mid = u64::from(a0.wrapping_mul(b1)).wrapping_add(u64::from(a1.wrapping_mul(b0)));
     let hi = u64::from(a1.wrapping_mul(b1));
     (hi << 32).wrapping_add(mid << 16).wrapping_add(lo)
 }
 
-/// `a · b` exactly (|a · b| < 2⁶³), through [`mul_32`]: no 64-bit multiply routine.
+/// `a · b` for 32-bit factors: one widening multiply where the core has it (UMULL on
+/// ARMv7-M and the host).
+#[cfg(not(all(target_arch = "arm", not(target_has_atomic = "32"))))]
+#[inline(always)]
+fn mul_32(a: u32, b: u32) -> u64 {
+    // Below 2⁶⁴: never wraps.
+    u64::from(a).wrapping_mul(u64::from(b))
+}
+
+/// `a · b` exactly (|a · b| < 2⁶³): on ARMv6-M through [`mul_32`] (no 64-bit multiply
+/// routine), elsewhere one widening multiply.
 pub(crate) fn mul_i32_u32(a: i32, b: u32) -> i64 {
-    // |a| ≤ 2³¹ and b < 2³²: the magnitude is below 2⁶³, so the cast and negation are exact.
-    let m = mul_32(a.unsigned_abs(), b) as i64;
-    if a < 0 {
-        m.wrapping_neg()
+    if cfg!(all(target_arch = "arm", not(target_has_atomic = "32"))) {
+        // |a| ≤ 2³¹ and b < 2³²: the magnitude is below 2⁶³, so the cast and negation are
+        // exact.
+        let m = mul_32(a.unsigned_abs(), b) as i64;
+        if a < 0 {
+            m.wrapping_neg()
+        } else {
+            m
+        }
     } else {
-        m
+        // One widening multiply where the core has it; exact, as above.
+        i64::from(a).wrapping_mul(i64::from(b))
     }
 }
 

@@ -876,7 +876,12 @@ const BAND_MAX: i64 = i64::MAX - (1 << 31);
 fn trapezoid_term(a: i32, b: i32, dt: u32) -> i64 {
     match small_trapezoid_term(a, b, dt) {
         Some(t) => i64::from(t),
-        None => (i64::from(a) + i64::from(b)) * i64::from(dt),
+        // A wide term (a converter beyond 16 bits, or samples far apart): 32-bit multiplies,
+        // not the 64-bit multiply routine.
+        None => match a.checked_add(b) {
+            Some(sum) => mul_i32_u32(sum, dt),
+            None => (i64::from(a) + i64::from(b)) * i64::from(dt),
+        },
     }
 }
 

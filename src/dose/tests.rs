@@ -498,3 +498,41 @@ fn integer_limits_equal_the_f64_conversion_they_replace() {
         "the loose comparison was never exercised"
     );
 }
+
+#[test]
+fn wide_terms_are_exact_and_cross_through_the_band() {
+    // A 24-bit converter (codes up to 2²³) sampled at 10 Hz on a 1 MHz tick: every term is
+    // beyond 32 bits. The totals must equal the closed form Σ (n_i + n_{i−1}) · Δt (computed
+    // from the definition in i128).
+    let m = meter();
+    let mut i = Integrator::new(&m, 200_000);
+    let id = i
+        .add_threshold(RadiantExposure::from_j_per_m2(1e12), Rounding::NotBefore)
+        .unwrap();
+    let mut want = 0i128;
+    let mut prev: Option<(i32, u32)> = None;
+    for n in 0..200u32 {
+        let code = 8_000_000 + ((n * 7919) % 300_000) as i32 - 150_000;
+        let at = 5 + n * 100_000;
+        let s = i.accept(code, RangeIndex(0), Ticks(at)).unwrap();
+        if let Some((c0, t0)) = prev {
+            want += i128::from(code + c0) * i128::from(at - t0);
+            assert_eq!(s.interval, 100_000);
+        }
+        prev = Some((code, at));
+        assert!(!s.crossed.contains(id));
+    }
+    assert_eq!(i.raw_total(RangeIndex(0)), want);
+    // A level just above the dose so far is crossed by the next wide sample, through the
+    // cache band like a small one.
+    let next_units = i128::from(2 * 8_000_000) * 100_000;
+    let k = m.j_per_m2_per_unit(RangeIndex(0));
+    let level = (want + next_units / 2) as f64 * k;
+    i.set_threshold(id, RadiantExposure::from_j_per_m2(level));
+    assert!(!i.crossed().contains(id));
+    let s = i
+        .accept(8_000_000, RangeIndex(0), Ticks(5 + 200 * 100_000))
+        .unwrap();
+    assert!(s.crossed.contains(id));
+    assert_eq!(i.crossed(), s.crossed);
+}

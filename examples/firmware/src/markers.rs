@@ -39,3 +39,5 @@ marker!(pl_mark_10, 10);
 marker!(pl_mark_11, 11);
 marker!(pl_mark_12, 12);
 marker!(pl_mark_13, 13);
+marker!(pl_mark_14, 14);
+marker!(pl_mark_15, 15);

@@ -12,6 +12,7 @@
 //! | 8 → 9 | `Integrator::accept` on a range change (informational: segment close, limits recomputed) |
 //! | 10 → 11 | positive control: an `f64` multiply (soft float on both cores) |
 //! | 12 → 13 | positive control: an `i32` to `f64` conversion (`__aeabi_i2d`) |
+//! | 14 → 15 | `Integrator::accept`, steady sample of a 24-bit converter sampled at 10 Hz on a 1 MHz tick (terms beyond 32 bits), two thresholds, none crossed |
 //!
 //! The two controls must show soft-float instructions, or `.ci/firmware.sh` fails: they prove
 //! that its soft-float pattern sees the routines the hot-path figure must not contain.
@@ -231,6 +232,33 @@ fn main() -> ! {
     c.check(
         "accept: range change integrated",
         step.map(|s| s.interval) == Ok(SAMPLE_TICKS),
+    );
+
+    // Wide terms: a 24-bit converter (codes near 2²³) sampled at 10 Hz on a 1 MHz tick, so
+    // each trapezoid term is about 2⁴⁰ units. Thresholds far above the run's dose.
+    let Some(mw) = demo_meter() else {
+        c.check("meter", false);
+        c.finish("hotpath")
+    };
+    let mut iw = Integrator::new(&mw, 200_000);
+    let _ = iw.add_threshold(RadiantExposure::from_j_per_m2(1e15), Rounding::NotBefore);
+    let _ = iw.add_threshold(RadiantExposure::from_j_per_m2(2e15), Rounding::NotAfter);
+    for n in 0..4u32 {
+        let _ = iw.accept(8_000_000 + n as i32, RangeIndex(0), Ticks(n * 100_000));
+    }
+    let at = black_box(Ticks(4 * 100_000));
+    let net = black_box(8_000_004);
+    let iw = black_box(&mut iw);
+    pl_mark_14();
+    let step = iw.accept(net, RangeIndex(0), at);
+    pl_mark_15();
+    let step = black_box(step);
+    c.check(
+        "accept: wide steady sample integrated, nothing crossed",
+        step == Ok(Step {
+            interval: 100_000,
+            crossed: Crossed(0),
+        }),
     );
 
     // Soft-float positive controls.
